@@ -1,0 +1,201 @@
+//! The one error type of deltakin.
+
+use core::fmt;
+
+/// Which input argument held a non-finite number.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+#[non_exhaustive]
+pub enum Input {
+    /// A Cartesian target or position (mm).
+    Position,
+    /// A joint-angle triple (rad).
+    JointAngles,
+    /// A Cartesian velocity (mm/s).
+    Velocity,
+    /// A joint-rate triple (rad/s).
+    JointRates,
+    /// A force on the platform (N).
+    Force,
+}
+
+/// Which end of a joint range was crossed.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum Bound {
+    /// Below the minimum.
+    Min,
+    /// Above the maximum.
+    Max,
+}
+
+/// Which end of a lower arm a passive (ball or universal) joint sits at.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum JointEnd {
+    /// At the elbow, on the upper arm.
+    Elbow,
+    /// At the moving platform.
+    Platform,
+}
+
+/// Why a geometry or a set of limits cannot describe a buildable machine.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+#[non_exhaustive]
+pub enum ConfigFault {
+    /// A dimension or limit is NaN or infinite.
+    NonFinite,
+    /// A dimension is zero or negative.
+    NotPositive,
+    /// A dimension exceeds [`crate::MAX_DIMENSION_MM`].
+    TooLarge,
+    /// The lower arm is not longer than the upper arm.
+    LowerArmNotLonger,
+    /// The joint range is empty (`min >= max`) or leaves `(-pi, pi)`.
+    JointRange,
+    /// The passive-joint cone half-angle is outside `(0, pi/2)`.
+    PassiveCone,
+    /// A minimum singularity margin is outside `[0, 1)`.
+    Margin,
+    /// The neutral pose (platform on the z axis, joints mid-range) cannot
+    /// be assembled, so the passive joints have no neutral axis.
+    NeutralPose,
+    /// The number type cannot represent this geometry (fixed point only).
+    Unrepresentable,
+}
+
+/// Everything that can go wrong in deltakin. Small and `Copy`, so a
+/// firmware loop can store or forward it freely.
+///
+/// Arm numbers are 0, 1 and 2, in the order of the conventions (arm `i`
+/// sits at azimuth `120 deg * i`).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+#[non_exhaustive]
+pub enum Error {
+    /// An input held NaN or an infinity.
+    NonFinite {
+        /// The argument that held it.
+        input: Input,
+    },
+    /// Inverse kinematics: this arm cannot reach the target.
+    Unreachable {
+        /// The arm.
+        arm: u8,
+    },
+    /// Forward kinematics: the three spheres do not meet, so no platform
+    /// position closes all three loops.
+    NoAssembly,
+    /// A joint angle lies outside its configured range.
+    JointLimit {
+        /// The arm.
+        arm: u8,
+        /// Which end of the range.
+        bound: Bound,
+    },
+    /// A passive joint would leave its cone of motion.
+    PassiveLimit {
+        /// The arm.
+        arm: u8,
+        /// Which end of the lower arm.
+        end: JointEnd,
+    },
+    /// An arm is closer to a serial (Type I) singularity than allowed: the
+    /// lower arm is nearly square to the elbow's direction of travel, the
+    /// arm nearly stretched or folded.
+    NearSerialSingularity {
+        /// The arm.
+        arm: u8,
+    },
+    /// The pose is closer to a parallel (Type II) singularity than allowed:
+    /// the three lower arms are nearly coplanar.
+    NearParallelSingularity,
+    /// The geometry cannot describe a buildable machine.
+    InvalidGeometry(ConfigFault),
+    /// The limits are inconsistent or do not fit the geometry.
+    InvalidLimits(ConfigFault),
+}
+
+impl Error {
+    /// One short lowercase word naming the error, as used in the status
+    /// column of the CLI and handy for firmware logs.
+    #[must_use]
+    pub const fn status_word(&self) -> &'static str {
+        match self {
+            Error::NonFinite { .. } => "non_finite",
+            Error::Unreachable { .. } => "unreachable",
+            Error::NoAssembly => "no_assembly",
+            Error::JointLimit { .. } => "joint_limit",
+            Error::PassiveLimit { .. } => "passive_limit",
+            Error::NearSerialSingularity { .. } => "near_serial",
+            Error::NearParallelSingularity => "near_parallel",
+            Error::InvalidGeometry(_) => "invalid_geometry",
+            Error::InvalidLimits(_) => "invalid_limits",
+        }
+    }
+}
+
+impl fmt::Display for ConfigFault {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(match self {
+            ConfigFault::NonFinite => "a value is not finite",
+            ConfigFault::NotPositive => "a dimension is not positive",
+            ConfigFault::TooLarge => "a dimension exceeds the supported maximum",
+            ConfigFault::LowerArmNotLonger => "the lower arm must be longer than the upper arm",
+            ConfigFault::JointRange => "the joint range is empty or leaves (-180, 180) degrees",
+            ConfigFault::PassiveCone => "the passive-joint cone half-angle must lie in (0, 90) degrees",
+            ConfigFault::Margin => "a minimum singularity margin must lie in [0, 1)",
+            ConfigFault::NeutralPose => "the neutral pose (joints mid-range) cannot be assembled",
+            ConfigFault::Unrepresentable => "the number type cannot represent this geometry",
+        })
+    }
+}
+
+impl fmt::Display for Error {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            Error::NonFinite { input } => write!(f, "non-finite number in the {input:?} input"),
+            Error::Unreachable { arm } => write!(f, "arm {arm} cannot reach the target"),
+            Error::NoAssembly => f.write_str("the joint angles close no platform position"),
+            Error::JointLimit { arm, bound: Bound::Min } => write!(f, "arm {arm} below its joint minimum"),
+            Error::JointLimit { arm, bound: Bound::Max } => write!(f, "arm {arm} above its joint maximum"),
+            Error::PassiveLimit { arm, end: JointEnd::Elbow } => {
+                write!(f, "arm {arm}: elbow ball joint outside its cone")
+            }
+            Error::PassiveLimit { arm, end: JointEnd::Platform } => {
+                write!(f, "arm {arm}: platform ball joint outside its cone")
+            }
+            Error::NearSerialSingularity { arm } => {
+                write!(f, "arm {arm} too close to a serial singularity (stretched or folded)")
+            }
+            Error::NearParallelSingularity => f.write_str("too close to a parallel singularity"),
+            Error::InvalidGeometry(why) => write!(f, "invalid geometry: {why}"),
+            Error::InvalidLimits(why) => write!(f, "invalid limits: {why}"),
+        }
+    }
+}
+
+impl core::error::Error for Error {}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn status_words_are_short_lowercase_and_distinct() {
+        let all = [
+            Error::NonFinite { input: Input::Position },
+            Error::Unreachable { arm: 0 },
+            Error::NoAssembly,
+            Error::JointLimit { arm: 1, bound: Bound::Max },
+            Error::PassiveLimit { arm: 2, end: JointEnd::Elbow },
+            Error::NearSerialSingularity { arm: 0 },
+            Error::NearParallelSingularity,
+            Error::InvalidGeometry(ConfigFault::NotPositive),
+            Error::InvalidLimits(ConfigFault::JointRange),
+        ];
+        for (i, a) in all.iter().enumerate() {
+            let w = a.status_word();
+            assert!(w.bytes().all(|b| b.is_ascii_lowercase() || b == b'_'), "{w}");
+            for b in &all[i + 1..] {
+                assert_ne!(w, b.status_word());
+            }
+        }
+    }
+}

@@ -1,0 +1,154 @@
+//! The Jacobian of a rotary delta and the maps it gives: joint rates from
+//! a platform velocity, platform velocity from joint rates, and joint
+//! torques from a force on the platform.
+//!
+//! Differentiating the closure `|P_i - E_i|^2 = l^2` in time gives, for
+//! each arm,
+//!
+//! ```text
+//!   s_i . v = (s_i . dE_i/dt_i) w_i,     s_i = P_i - E_i (the lower arm)
+//! ```
+//!
+//! or `J_p v = J_t w` with the rows of `J_p` the lower-arm vectors and
+//! `J_t = diag(b_i)`, `b_i = s_i . dE_i/dt_i`. So `w = J_t^-1 J_p v` and
+//! `v = J_p^-1 J_t w = J w`. Virtual work (`tau . w = F . v`) gives the
+//! static map `tau = J^T F`.
+//!
+//! The two ways the maps fail are the singularities of C. Gosselin and
+//! J. Angeles, "Singularity Analysis of Closed-Loop Kinematic Chains",
+//! IEEE Trans. Robotics and Automation 6(3), 1990: a serial (Type I)
+//! singularity when some `b_i = 0` (the lower arm square to the elbow's
+//! direction of travel: an arm stretched or folded, a joint that cannot
+//! move the platform) and a parallel (Type II) one when `det J_p = 0` (the
+//! three lower arms coplanar: the platform can move with the joints held).
+//!
+//! Margins, each 1 at best and 0 at the singularity:
+//!
+//! * serial margin of arm `i`: `|b_i| / (|s_i| |dE_i/dt_i|) = |b_i| / (l a)`,
+//!   the cosine of the angle between the lower arm and the elbow's
+//!   direction of travel;
+//! * parallel margin: `|det J_p| / l^3`, the determinant of the three unit
+//!   lower-arm vectors, which is 1 when they are mutually orthogonal.
+//!
+//! Internally the lower-arm vectors are unit vectors (lengths in lower-arm
+//! units); the maps convert to millimetres.
+
+use crate::error::{Error, Input};
+use crate::forward::{cross, dot};
+use crate::scalar::Real;
+
+/// The Jacobian at one pose, with the velocity and force maps.
+///
+/// Units: platform velocity mm/s, joint rates rad/s, force N, torque N*mm.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Jacobian<S> {
+    /// Unit lower-arm vectors (elbow to platform), base frame.
+    rods: [[S; 3]; 3],
+    /// `b_i` in lower-arm units per radian.
+    rates: [S; 3],
+    /// `det` of the three unit rods.
+    det: S,
+    /// Lower-arm length, mm.
+    scale: S,
+}
+
+fn finite3<S: Real>(v: [S; 3], input: Input) -> Result<(), Error> {
+    if v.iter().all(|x| x.is_finite()) { Ok(()) } else { Err(Error::NonFinite { input }) }
+}
+
+impl<S: Real> Jacobian<S> {
+    pub(crate) fn new(rods: [[S; 3]; 3], rates: [S; 3], scale: S) -> Self {
+        let [r0, r1, r2] = rods;
+        Self { rods, rates, det: dot(r0, cross(r1, r2)), scale }
+    }
+
+    /// Parallel margin, `|det|` of the three unit lower-arm vectors.
+    pub(crate) fn parallel_margin(&self) -> S {
+        self.det.abs()
+    }
+
+    /// Joint rates (rad/s) that move the platform at `velocity` (mm/s):
+    /// `w_i = (s_i . v) / b_i`.
+    ///
+    /// # Errors
+    /// [`Error::NonFinite`] for a non-finite velocity;
+    /// [`Error::NearSerialSingularity`] naming the arm whose `b_i` is too
+    /// small to divide by.
+    pub fn joint_rates(&self, velocity: [S; 3]) -> Result<[S; 3], Error> {
+        finite3(velocity, Input::Velocity)?;
+        let mut out = [S::ZERO; 3];
+        for (arm, (o, (rod, &b))) in out.iter_mut().zip(self.rods.iter().zip(self.rates.iter())).enumerate() {
+            #[allow(clippy::cast_possible_truncation)] // arm < 3
+            let err = Error::NearSerialSingularity { arm: arm as u8 };
+            let along = dot(*rod, velocity);
+            *o = along.checked_div(b * self.scale).ok_or(err)?;
+        }
+        Ok(out)
+    }
+
+    /// Platform velocity (mm/s) produced by joint rates `rates` (rad/s):
+    /// `v = J_p^-1 diag(b) w`.
+    ///
+    /// # Errors
+    /// [`Error::NonFinite`] for non-finite rates;
+    /// [`Error::NearParallelSingularity`] when `det J_p` is too small.
+    pub fn cartesian_velocity(&self, rates: [S; 3]) -> Result<[S; 3], Error> {
+        finite3(rates, Input::JointRates)?;
+        let y = [
+            self.rates[0] * rates[0] * self.scale,
+            self.rates[1] * rates[1] * self.scale,
+            self.rates[2] * rates[2] * self.scale,
+        ];
+        self.solve_rods(y)
+    }
+
+    /// Joint torques (N*mm) equivalent to a force `force` (N) applied by
+    /// the platform: `tau = J^T F`. These are the torques the actuators
+    /// must supply for the platform to push on its surroundings with
+    /// `force` (or, with the sign flipped, to hold an external load).
+    ///
+    /// # Errors
+    /// [`Error::NonFinite`] for a non-finite force;
+    /// [`Error::NearParallelSingularity`] when `det J_p` is too small.
+    pub fn joint_torques(&self, force: [S; 3]) -> Result<[S; 3], Error> {
+        finite3(force, Input::Force)?;
+        let z = self.solve_rods_transposed(force)?;
+        Ok([
+            self.rates[0] * z[0] * self.scale,
+            self.rates[1] * z[1] * self.scale,
+            self.rates[2] * z[2] * self.scale,
+        ])
+    }
+
+    /// The full Jacobian `J` (mm/rad), `v = J w`, as rows.
+    ///
+    /// # Errors
+    /// [`Error::NearParallelSingularity`] when `det J_p` is too small.
+    pub fn matrix(&self) -> Result<[[S; 3]; 3], Error> {
+        let c0 = self.cartesian_velocity([S::ONE, S::ZERO, S::ZERO])?;
+        let c1 = self.cartesian_velocity([S::ZERO, S::ONE, S::ZERO])?;
+        let c2 = self.cartesian_velocity([S::ZERO, S::ZERO, S::ONE])?;
+        Ok([[c0[0], c1[0], c2[0]], [c0[1], c1[1], c2[1]], [c0[2], c1[2], c2[2]]])
+    }
+
+    /// Solves `J_p x = y` by Cramer's rule: `x = sum y_i (s_j x s_k) / det`.
+    fn solve_rods(&self, y: [S; 3]) -> Result<[S; 3], Error> {
+        let [r0, r1, r2] = self.rods;
+        let inv = S::ONE.checked_div(self.det).ok_or(Error::NearParallelSingularity)?;
+        let (a, b, c) = (cross(r1, r2), cross(r2, r0), cross(r0, r1));
+        let out = [
+            (y[0] * a[0] + y[1] * b[0] + y[2] * c[0]) * inv,
+            (y[0] * a[1] + y[1] * b[1] + y[2] * c[1]) * inv,
+            (y[0] * a[2] + y[1] * b[2] + y[2] * c[2]) * inv,
+        ];
+        if out.iter().all(|v| v.is_finite()) { Ok(out) } else { Err(Error::NearParallelSingularity) }
+    }
+
+    /// Solves `J_p^T z = f`: `z_i = f . (s_j x s_k) / det`.
+    fn solve_rods_transposed(&self, f: [S; 3]) -> Result<[S; 3], Error> {
+        let [r0, r1, r2] = self.rods;
+        let inv = S::ONE.checked_div(self.det).ok_or(Error::NearParallelSingularity)?;
+        let out = [dot(f, cross(r1, r2)) * inv, dot(f, cross(r2, r0)) * inv, dot(f, cross(r0, r1)) * inv];
+        if out.iter().all(|v| v.is_finite()) { Ok(out) } else { Err(Error::NearParallelSingularity) }
+    }
+}

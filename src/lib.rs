@@ -1,0 +1,34 @@
+#![doc = include_str!("../README.md")]
+#![no_std]
+#![forbid(unsafe_code)]
+// `!(a >= b)` is deliberate throughout: it is true for NaN, so a NaN never
+// passes a check.
+#![allow(clippy::neg_cmp_op_on_partial_ord)]
+#![warn(missing_docs)]
+#![deny(
+    clippy::unwrap_used,
+    clippy::expect_used,
+    clippy::panic,
+    clippy::indexing_slicing,
+    clippy::float_cmp_const
+)]
+#![cfg_attr(test, allow(clippy::unwrap_used, clippy::expect_used, clippy::indexing_slicing))]
+
+#[cfg(feature = "std")]
+extern crate std;
+
+mod error;
+pub mod forward;
+mod guard;
+pub mod inverse;
+pub mod jacobian;
+mod robot;
+pub mod scalar;
+mod solution;
+mod solve;
+
+pub use error::{Bound, ConfigFault, Error, Input, JointEnd};
+pub use jacobian::Jacobian;
+pub use robot::{Geometry, Limits, MAX_DIMENSION_MM, Robot};
+pub use scalar::{Arith, Real};
+pub use solution::{Margins, Solution};

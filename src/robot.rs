@@ -1,0 +1,325 @@
+//! A robot: its dimensions, its limits, and the per-arm constants the
+//! solvers use, computed once when the robot is built.
+//!
+//! Lengths are millimetres and angles radians at this interface. Inside,
+//! every length is divided by the lower-arm length, so the solvers see
+//! numbers of order one whatever the size of the machine: the lower arm is
+//! exactly 1, the upper arm below 1, and every position in the workspace
+//! below about 3. That keeps f32 rounding uniform and lets a fixed-point
+//! type use a narrow, fixed format.
+
+use crate::error::{ConfigFault, Error};
+use crate::scalar::Real;
+
+/// Largest dimension deltakin accepts, in millimetres (100 m). Squares of
+/// positions stay far inside every supported number type.
+pub const MAX_DIMENSION_MM: f64 = 1.0e5;
+
+/// The four dimensions of a rotary delta robot, in millimetres (see the
+/// conventions in the crate documentation).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Geometry<S> {
+    /// Base centre to each actuator axis, measured radially.
+    pub base_radius: S,
+    /// Platform centre to the axis where a lower arm meets the platform.
+    pub platform_radius: S,
+    /// Actuator axis to elbow axis.
+    pub upper_arm: S,
+    /// Elbow axis to platform axis (parallelogram rod length).
+    pub lower_arm: S,
+}
+
+/// What the guarded solvers enforce.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Limits<S> {
+    /// Lowest joint angle of each arm (rad).
+    pub joint_min: [S; 3],
+    /// Highest joint angle of each arm (rad).
+    pub joint_max: [S; 3],
+    /// Half-angle of the cone each passive joint may move in, around its
+    /// neutral axis (rad). See [`Robot`] for what exactly is measured.
+    pub passive_cone: S,
+    /// Smallest serial margin accepted on any arm, in `[0, 1)`.
+    pub min_serial_margin: S,
+    /// Smallest parallel margin accepted, in `[0, 1)`.
+    pub min_parallel_margin: S,
+}
+
+impl<S: Copy> Limits<S> {
+    /// The same joint range on all three arms.
+    #[must_use]
+    pub const fn uniform(joint_min: S, joint_max: S, passive_cone: S, min_serial_margin: S, min_parallel_margin: S) -> Self {
+        Self {
+            joint_min: [joint_min; 3],
+            joint_max: [joint_max; 3],
+            passive_cone,
+            min_serial_margin,
+            min_parallel_margin,
+        }
+    }
+}
+
+/// Constants of one arm, in lower-arm units.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub(crate) struct ArmConstants<S> {
+    /// cos and sin of the arm's azimuth.
+    pub(crate) cos_phi: S,
+    pub(crate) sin_phi: S,
+    /// Neutral axis of the elbow joint, a unit vector in the upper arm's
+    /// own frame (x along the upper arm, y along the actuator axis).
+    pub(crate) elbow_axis: [S; 3],
+    /// Neutral axis of the platform joint, a unit vector in the arm's
+    /// vertical plane frame (x radial, y tangential, z up).
+    pub(crate) platform_axis: [S; 3],
+}
+
+/// A validated rotary delta robot, ready for the solvers.
+///
+/// Plain `Copy` data without pointers: build it once at start-up and keep
+/// it wherever the firmware keeps its state (a `static` cell, a task's
+/// resources, a field of the motion controller). Building costs one
+/// square root, a division and four sine/cosine pairs.
+///
+/// # Passive joints
+/// Each lower arm ends in a ball (or universal) joint at the elbow and at
+/// the platform, which allows the rod to tilt at most `passive_cone` away
+/// from the joint's neutral axis. The neutral axis of arm `i` is the rod's
+/// direction (elbow towards platform) at arm `i`'s neutral pose: the
+/// platform on the z axis and joint `i` at the middle of its range (with
+/// equal ranges on all arms this is one pose of the whole machine). At the
+/// elbow the axis is fixed to the upper arm, so it turns with the joint;
+/// at the platform it is fixed to the platform, which only translates. The
+/// guard measures the angle between the rod's current direction and each
+/// axis and rejects a pose where either exceeds `passive_cone`.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Robot<S> {
+    geometry: Geometry<S>,
+    limits: Limits<S>,
+    /// Lower arm (mm) and its inverse: the internal length unit.
+    pub(crate) scale: S,
+    pub(crate) inv_scale: S,
+    /// Upper arm in lower-arm units, `a < 1`.
+    pub(crate) a: S,
+    /// `(base_radius - platform_radius)` in lower-arm units.
+    pub(crate) d: S,
+    /// `1 - a^2` and `1 / (2a)`, for the closure equation.
+    pub(crate) one_minus_a2: S,
+    pub(crate) inv_two_a: S,
+    /// cos of the passive-joint cone half-angle.
+    pub(crate) cos_cone: S,
+    pub(crate) arms: [ArmConstants<S>; 3],
+}
+
+/// `S::from_f64` that reports an unrepresentable value as a fault.
+fn constant<S: Real>(v: f64) -> Result<S, ConfigFault> {
+    S::from_f64(v).ok_or(ConfigFault::Unrepresentable)
+}
+
+impl<S: Real> Geometry<S> {
+    /// Checks that the four dimensions describe a machine deltakin serves.
+    ///
+    /// * every dimension finite and positive;
+    /// * none above [`MAX_DIMENSION_MM`];
+    /// * the lower arm strictly longer than the upper arm. Every rotary
+    ///   delta in practice is built this way (ratios of about 1.5 to 3.5),
+    ///   and it is the design family deltakin's accuracy is verified on; a
+    ///   shorter lower arm is refused rather than served with unverified
+    ///   numbers.
+    ///
+    /// # Errors
+    /// [`Error::InvalidGeometry`] naming the first failed check.
+    pub fn validate(&self) -> Result<(), Error> {
+        let dims = [self.base_radius, self.platform_radius, self.upper_arm, self.lower_arm];
+        let max = constant::<S>(MAX_DIMENSION_MM).map_err(Error::InvalidGeometry)?;
+        if !dims.iter().all(|v| v.is_finite()) {
+            return Err(Error::InvalidGeometry(ConfigFault::NonFinite));
+        }
+        if !dims.iter().all(|&v| v > S::ZERO) {
+            return Err(Error::InvalidGeometry(ConfigFault::NotPositive));
+        }
+        if !dims.iter().all(|&v| v <= max) {
+            return Err(Error::InvalidGeometry(ConfigFault::TooLarge));
+        }
+        if !(self.lower_arm > self.upper_arm) {
+            return Err(Error::InvalidGeometry(ConfigFault::LowerArmNotLonger));
+        }
+        Ok(())
+    }
+}
+
+impl<S: Real> Limits<S> {
+    /// Checks the limits on their own: finite; each joint range non-empty
+    /// and inside `(-pi, pi)`; cone half-angle in `(0, pi/2)` (a ball joint
+    /// cannot tilt further, and the cosine test needs it); margins in
+    /// `[0, 1)` (a margin of 1 is the best possible pose, so a minimum of 1
+    /// would reject everything).
+    ///
+    /// # Errors
+    /// [`Error::InvalidLimits`] naming the first failed check.
+    pub fn validate(&self) -> Result<(), Error> {
+        let bad = |f| Err(Error::InvalidLimits(f));
+        let scalars = [self.passive_cone, self.min_serial_margin, self.min_parallel_margin];
+        let finite = self.joint_min.iter().chain(self.joint_max.iter()).chain(scalars.iter()).all(|v| v.is_finite());
+        if !finite {
+            return bad(ConfigFault::NonFinite);
+        }
+        for (&lo, &hi) in self.joint_min.iter().zip(self.joint_max.iter()) {
+            if !(lo < hi && lo > -S::PI && hi < S::PI) {
+                return bad(ConfigFault::JointRange);
+            }
+        }
+        let half_pi = S::PI * S::HALF;
+        if !(self.passive_cone > S::ZERO && self.passive_cone < half_pi) {
+            return bad(ConfigFault::PassiveCone);
+        }
+        for m in [self.min_serial_margin, self.min_parallel_margin] {
+            if !(m >= S::ZERO && m < S::ONE) {
+                return bad(ConfigFault::Margin);
+            }
+        }
+        Ok(())
+    }
+}
+
+impl<S: Real> Robot<S> {
+    /// Validates geometry and limits and precomputes the per-arm constants.
+    ///
+    /// # Errors
+    /// [`Error::InvalidGeometry`] or [`Error::InvalidLimits`] with the
+    /// reason; [`ConfigFault::NeutralPose`] when the lower arm cannot close
+    /// the loop at some arm's neutral pose.
+    pub fn new(geometry: Geometry<S>, limits: Limits<S>) -> Result<Self, Error> {
+        geometry.validate()?;
+        limits.validate()?;
+        let geo_fault = Error::InvalidGeometry;
+        let scale = geometry.lower_arm;
+        let inv_scale = S::ONE.checked_div(scale).ok_or(geo_fault(ConfigFault::Unrepresentable))?;
+        let a = geometry.upper_arm * inv_scale;
+        let d = (geometry.base_radius - geometry.platform_radius) * inv_scale;
+        let inv_two_a = S::ONE.checked_div(S::TWO * a).ok_or(geo_fault(ConfigFault::Unrepresentable))?;
+        let half_sqrt3 = constant::<S>(0.866_025_403_784_438_6).map_err(geo_fault)?;
+        let azimuths = [(S::ONE, S::ZERO), (-S::HALF, half_sqrt3), (-S::HALF, -half_sqrt3)];
+        let mut arms = [ArmConstants {
+            cos_phi: S::ONE,
+            sin_phi: S::ZERO,
+            elbow_axis: [S::ZERO; 3],
+            platform_axis: [S::ZERO; 3],
+        }; 3];
+        for ((arm, &(cos_phi, sin_phi)), (&lo, &hi)) in
+            arms.iter_mut().zip(azimuths.iter()).zip(limits.joint_min.iter().zip(limits.joint_max.iter()))
+        {
+            let (sm, cm) = ((lo + hi) * S::HALF).sin_cos();
+            // Platform on the axis: radial gap from elbow to platform joint.
+            let gap = d + a * cm;
+            let drop2 = S::ONE - gap * gap;
+            if !(drop2 > S::ZERO) {
+                return Err(Error::InvalidLimits(ConfigFault::NeutralPose));
+            }
+            // Rod direction, elbow towards platform, in the arm's plane.
+            let w = [-gap, S::ZERO, -drop2.sqrt()];
+            arm.cos_phi = cos_phi;
+            arm.sin_phi = sin_phi;
+            arm.platform_axis = w;
+            arm.elbow_axis = to_upper_arm_frame(w, sm, cm);
+        }
+        Ok(Self {
+            geometry,
+            limits,
+            scale,
+            inv_scale,
+            a,
+            d,
+            one_minus_a2: S::ONE - a * a,
+            inv_two_a,
+            cos_cone: limits.passive_cone.sin_cos().1,
+            arms,
+        })
+    }
+
+    /// The dimensions this robot was built from (mm).
+    #[must_use]
+    pub const fn geometry(&self) -> &Geometry<S> {
+        &self.geometry
+    }
+
+    /// The limits this robot enforces.
+    #[must_use]
+    pub const fn limits(&self) -> &Limits<S> {
+        &self.limits
+    }
+}
+
+/// Expresses a vector given in an arm's vertical-plane frame (x radial, y
+/// tangential, z up) in the frame of that arm's upper arm at joint angle
+/// `theta` (x along the upper arm), given `sin(theta)` and `cos(theta)`.
+/// The upper arm is the plane frame turned by `theta` about y, down being
+/// positive, so this applies the inverse of that rotation.
+#[inline]
+pub(crate) fn to_upper_arm_frame<S: Real>(v: [S; 3], sin_t: S, cos_t: S) -> [S; 3] {
+    let [x, y, z] = v;
+    [cos_t * x - sin_t * z, y, sin_t * x + cos_t * z]
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn geometry() -> Geometry<f64> {
+        Geometry { base_radius: 200.0, platform_radius: 50.0, upper_arm: 350.0, lower_arm: 800.0 }
+    }
+
+    fn limits() -> Limits<f64> {
+        Limits::uniform(-0.7, 1.5, 0.6, 0.05, 0.05)
+    }
+
+    #[test]
+    fn builds_and_keeps_its_inputs() {
+        let robot = Robot::new(geometry(), limits()).expect("valid robot");
+        assert_eq!(*robot.geometry(), geometry());
+        assert_eq!(*robot.limits(), limits());
+        for arm in &robot.arms {
+            let n2: f64 = arm.elbow_axis.iter().map(|v| v * v).sum();
+            let p2: f64 = arm.platform_axis.iter().map(|v| v * v).sum();
+            assert!((n2 - 1.0).abs() < 1e-12 && (p2 - 1.0).abs() < 1e-12);
+        }
+    }
+
+    #[test]
+    fn rejects_each_bad_geometry_with_its_reason() {
+        let cases = [
+            (Geometry { base_radius: f64::NAN, ..geometry() }, ConfigFault::NonFinite),
+            (Geometry { upper_arm: 0.0, ..geometry() }, ConfigFault::NotPositive),
+            (Geometry { platform_radius: -1.0, ..geometry() }, ConfigFault::NotPositive),
+            (Geometry { lower_arm: 2.0e5, ..geometry() }, ConfigFault::TooLarge),
+            (Geometry { lower_arm: 350.0, ..geometry() }, ConfigFault::LowerArmNotLonger),
+        ];
+        for (g, why) in cases {
+            assert_eq!(Robot::new(g, limits()), Err(Error::InvalidGeometry(why)));
+        }
+    }
+
+    #[test]
+    fn rejects_each_bad_limit_with_its_reason() {
+        let l = limits();
+        let cases = [
+            (Limits { passive_cone: f64::INFINITY, ..l }, ConfigFault::NonFinite),
+            (Limits { joint_min: [0.0, 1.6, 0.0], ..l }, ConfigFault::JointRange),
+            (Limits { joint_max: [1.0, 1.0, 3.2], ..l }, ConfigFault::JointRange),
+            (Limits { passive_cone: 0.0, ..l }, ConfigFault::PassiveCone),
+            (Limits { passive_cone: 1.6, ..l }, ConfigFault::PassiveCone),
+            (Limits { min_serial_margin: 1.0, ..l }, ConfigFault::Margin),
+            (Limits { min_parallel_margin: -0.1, ..l }, ConfigFault::Margin),
+        ];
+        for (bad, why) in cases {
+            assert_eq!(Robot::new(geometry(), bad), Err(Error::InvalidLimits(why)));
+        }
+    }
+
+    #[test]
+    fn neutral_pose_that_cannot_close_is_refused() {
+        // Radial gap of 1200 mm at mid-range against an 800 mm lower arm.
+        let g = Geometry { base_radius: 1300.0, platform_radius: 50.0, ..geometry() };
+        let l = Limits::uniform(-0.1, 0.1, 0.6, 0.05, 0.05);
+        assert_eq!(Robot::new(g, l), Err(Error::InvalidLimits(ConfigFault::NeutralPose)));
+    }
+}

@@ -1,0 +1,114 @@
+//! The number types the solvers run on.
+//!
+//! Every solver in deltakin is written once, generic over [`Real`], and
+//! instantiated for `f32` (the firmware path), `f64` (host tools) and, later,
+//! a fixed-point type. The traits are deliberately small:
+//!
+//! * [`Arith`] is plain arithmetic, comparison, a checked division and the
+//!   handful of constants the algorithms use.
+//! * [`Real`] adds the only transcendental functions the solvers need:
+//!   square root, two-argument arc tangent and a joint sine/cosine.
+//!
+//! A fixed-point type can implement both honestly: nothing here needs NaN,
+//! infinity or a float exponent.
+//!
+//! This is the only module that knows how a number is stored.
+
+mod float32;
+mod float64;
+
+pub use float32::{SIN_COS_F32_MAX_ABS_ERROR, SIN_COS_F32_VALID_RANGE, SQRT_F32_MAX_REL_ERROR};
+pub use float32::{sin_cos_f32, sqrt_f32};
+
+use core::fmt::Debug;
+use core::ops::{Add, Mul, Neg, Sub};
+
+/// Plain arithmetic on a real-number stand-in.
+///
+/// Implementations must never panic. Operations that can fail on a bounded
+/// representation (division) come in checked form only.
+pub trait Arith:
+    Copy
+    + Debug
+    + PartialOrd
+    + Add<Output = Self>
+    + Sub<Output = Self>
+    + Mul<Output = Self>
+    + Neg<Output = Self>
+    + Send
+    + Sync
+    + 'static
+{
+    /// 0.
+    const ZERO: Self;
+    /// 1.
+    const ONE: Self;
+    /// 2.
+    const TWO: Self;
+    /// 1/2.
+    const HALF: Self;
+    /// pi.
+    const PI: Self;
+
+    /// Absolute value. For a bounded integer representation the most
+    /// negative value saturates to the most positive one.
+    #[must_use]
+    fn abs(self) -> Self;
+
+    /// `self / rhs`, or `None` when the quotient is not representable
+    /// (division by zero, overflow, or a non-finite result).
+    #[must_use]
+    fn checked_div(self, rhs: Self) -> Option<Self>;
+
+    /// `false` for NaN and infinities; always `true` for types without them.
+    #[must_use]
+    fn is_finite(self) -> bool;
+
+    /// Converts from `f64`, rounding to nearest. `None` when `v` is not
+    /// finite or lies outside the representable range.
+    #[must_use]
+    fn from_f64(v: f64) -> Option<Self>;
+
+    /// Converts to `f64` (exact for `f32`, `f64` and 32-bit fixed point).
+    #[must_use]
+    fn to_f64(self) -> f64;
+
+    /// The larger of two values (the first one when they compare equal or
+    /// are unordered).
+    #[must_use]
+    #[inline]
+    fn max_of(self, other: Self) -> Self {
+        if other > self { other } else { self }
+    }
+
+    /// The smaller of two values (the first one when they compare equal or
+    /// are unordered).
+    #[must_use]
+    #[inline]
+    fn min_of(self, other: Self) -> Self {
+        if other < self { other } else { self }
+    }
+}
+
+/// The few transcendental functions the solvers need.
+///
+/// Each implementation documents its method, its valid input range and its
+/// measured error bound, and runs in a fixed number of operations.
+pub trait Real: Arith {
+    /// Square root of `self`.
+    ///
+    /// Valid for `self >= 0`. The solvers check the sign before calling;
+    /// for a negative argument the result is unspecified (NaN for floats)
+    /// but the call never panics.
+    #[must_use]
+    fn sqrt(self) -> Self;
+
+    /// Four-quadrant arc tangent of `self / x` in radians, in `[-pi, pi]`.
+    /// `atan2(0, 0)` returns 0.
+    #[must_use]
+    fn atan2(self, x: Self) -> Self;
+
+    /// `(sin(self), cos(self))` for an angle in radians.
+    #[must_use]
+    fn sin_cos(self) -> (Self, Self);
+}

@@ -1,0 +1,175 @@
+//! The firmware-facing entry points: guarded inverse and forward
+//! kinematics, and their unguarded twins for diagnostics.
+//!
+//! Every entry point checks its input for non-finite numbers first, runs a
+//! fixed sequence of operations (no loop depends on the input), and
+//! returns either a [`Solution`] or an [`Error`] naming what is wrong.
+
+use crate::error::{Bound, Error, Input};
+use crate::forward;
+use crate::guard;
+use crate::inverse::{self, ArmState};
+use crate::robot::Robot;
+use crate::scalar::Real;
+use crate::solution::Solution;
+
+fn finite3<S: Real>(v: [S; 3], input: Input) -> Result<(), Error> {
+    if v.iter().all(|x| x.is_finite()) { Ok(()) } else { Err(Error::NonFinite { input }) }
+}
+
+impl<S: Real> Robot<S> {
+    /// Guarded inverse kinematics: joint angles (rad) for a platform
+    /// position `target` (mm, base frame), elbow-out branch, with margins
+    /// and Jacobian, after checking every limit.
+    ///
+    /// # Errors
+    /// [`Error::NonFinite`], [`Error::Unreachable`] (naming the arm), or
+    /// the first violated limit: [`Error::JointLimit`],
+    /// [`Error::PassiveLimit`], [`Error::NearSerialSingularity`],
+    /// [`Error::NearParallelSingularity`].
+    ///
+    /// # Panics
+    /// Never.
+    pub fn inverse(&self, target: [S; 3]) -> Result<Solution<S>, Error> {
+        let solution = self.inverse_unguarded(target)?;
+        guard::check(self, &solution)?;
+        Ok(solution)
+    }
+
+    /// Guarded forward kinematics: platform position (mm) for joint angles
+    /// `joints` (rad), lower branch, with margins and Jacobian, after
+    /// checking every limit. The joint ranges are checked before solving.
+    ///
+    /// # Errors
+    /// [`Error::NonFinite`], [`Error::JointLimit`], [`Error::NoAssembly`],
+    /// or the first violated limit as for [`Robot::inverse`].
+    ///
+    /// # Panics
+    /// Never.
+    pub fn forward(&self, joints: [S; 3]) -> Result<Solution<S>, Error> {
+        finite3(joints, Input::JointAngles)?;
+        guard::check_joints(self, joints)?;
+        let solution = self.forward_unguarded(joints)?;
+        guard::check(self, &solution)?;
+        Ok(solution)
+    }
+
+    /// Inverse kinematics **without limit checks**, for diagnostics,
+    /// workspace maps and tests. Margins and tilts are still computed, so
+    /// a caller can see how far outside its limits a pose lies.
+    ///
+    /// # Errors
+    /// [`Error::NonFinite`] or [`Error::Unreachable`] only.
+    ///
+    /// # Panics
+    /// Never.
+    pub fn inverse_unguarded(&self, target: [S; 3]) -> Result<Solution<S>, Error> {
+        finite3(target, Input::Position)?;
+        let p = target.map(|v| v * self.inv_scale);
+        let arms = inverse::solve_arms(self, p)?;
+        Ok(Solution::assemble(self, target, arms))
+    }
+
+    /// Forward kinematics **without limit checks**, for diagnostics,
+    /// workspace maps and tests. Any angle within one full turn either way
+    /// (`|theta| <= 2 pi`) is accepted.
+    ///
+    /// # Errors
+    /// [`Error::NonFinite`], [`Error::JointLimit`] for an angle beyond one
+    /// full turn, [`Error::NoAssembly`], or
+    /// [`Error::NearParallelSingularity`] when the three sphere centres are
+    /// collinear.
+    ///
+    /// # Panics
+    /// Never.
+    pub fn forward_unguarded(&self, joints: [S; 3]) -> Result<Solution<S>, Error> {
+        finite3(joints, Input::JointAngles)?;
+        let turn = S::TWO * S::PI;
+        for (arm, &t) in joints.iter().enumerate() {
+            #[allow(clippy::cast_possible_truncation)] // arm < 3
+            let arm = arm as u8;
+            if t > turn {
+                return Err(Error::JointLimit { arm, bound: Bound::Max });
+            }
+            if t < -turn {
+                return Err(Error::JointLimit { arm, bound: Bound::Min });
+            }
+        }
+        let trig = joints.map(Real::sin_cos);
+        let p = forward::solve(self, trig)?;
+        let state = |arm: usize, theta: S, (sin, cos): (S, S)| {
+            let q = inverse::arm_plane_point(self, arm, p);
+            ArmState { theta, sin, cos, rod: inverse::rod_vector(self, q, sin, cos) }
+        };
+        let [t0, t1, t2] = joints;
+        let [g0, g1, g2] = trig;
+        let arms = [state(0, t0, g0), state(1, t1, g1), state(2, t2, g2)];
+        Ok(Solution::assemble(self, p.map(|v| v * self.scale), arms))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use crate::{Error, Geometry, Limits, Robot};
+
+    /// A small test machine (invented numbers).
+    fn robot<S: crate::Real>() -> Robot<S> {
+        let f = |v: f64| S::from_f64(v).unwrap();
+        let g = Geometry { base_radius: f(180.0), platform_radius: f(45.0), upper_arm: f(300.0), lower_arm: f(750.0) };
+        let l = Limits::uniform(f(-0.8), f(1.6), f(0.7), f(0.02), f(0.02));
+        Robot::new(g, l).unwrap()
+    }
+
+    /// Round-trip tolerances (mm): f64 is limited by rounding of order
+    /// 1e-13 relative; f32 by its 24-bit mantissa on lengths near 1000 mm.
+    const ROUND_TRIP_F64_MM: f64 = 1e-9;
+    const ROUND_TRIP_F32_MM: f32 = 2e-3;
+
+    fn grid() -> impl Iterator<Item = [f64; 3]> {
+        (0..7).flat_map(|i| (0..7).flat_map(move |j| (0..5).map(move |k| {
+            [-300.0 + 100.0 * f64::from(i), -300.0 + 100.0 * f64::from(j), -700.0 - 80.0 * f64::from(k)]
+        })))
+    }
+
+    #[test]
+    fn forward_of_inverse_returns_the_target() {
+        let (r64, r32) = (robot::<f64>(), robot::<f32>());
+        let mut solved = 0;
+        for p in grid() {
+            let Ok(sol) = r64.inverse(p) else { continue };
+            solved += 1;
+            let back = r64.forward(sol.joints).unwrap();
+            for (a, b) in back.position.iter().zip(p.iter()) {
+                assert!((a - b).abs() < ROUND_TRIP_F64_MM, "{p:?} -> {:?}", back.position);
+            }
+            let p32 = p.map(|v| v as f32);
+            let sol32 = r32.inverse_unguarded(p32).unwrap();
+            let back32 = r32.forward_unguarded(sol32.joints).unwrap();
+            for (a, b) in back32.position.iter().zip(p32.iter()) {
+                assert!((a - b).abs() < ROUND_TRIP_F32_MM, "{p32:?} -> {:?}", back32.position);
+            }
+        }
+        assert!(solved > 100, "only {solved} grid points inside the guards");
+    }
+
+    #[test]
+    fn closure_holds_and_margins_are_normalised() {
+        let r = robot::<f64>();
+        for p in grid() {
+            let Ok(sol) = r.inverse_unguarded(p) else { continue };
+            let m = sol.margins;
+            assert!(m.parallel >= 0.0 && m.parallel <= 1.0 + 1e-12);
+            for s in m.serial {
+                assert!((0.0..=1.0 + 1e-12).contains(&s));
+            }
+        }
+    }
+
+    #[test]
+    fn unreachable_names_an_arm_and_far_angles_are_refused() {
+        let r = robot::<f64>();
+        assert!(matches!(r.inverse([0.0, 0.0, -5000.0]), Err(Error::Unreachable { .. })));
+        assert!(matches!(r.forward_unguarded([7.0, 0.0, 0.0]), Err(Error::JointLimit { arm: 0, .. })));
+        assert!(matches!(r.forward([0.0, 0.0, f64::NAN]), Err(Error::NonFinite { .. })));
+    }
+}
