@@ -1,0 +1,5 @@
+//! The deltakin host harness: the robot file, an independent f64
+//! reference, workspace sweeps, the report and the CLI. std only.
+
+pub mod config;
+pub mod reference;
