@@ -82,11 +82,8 @@ pub(crate) fn solve<S: Real>(robot: &Robot<S>, trig: [(S, S); 3]) -> Result<[S; 
     let vv = dot(v, v);
     let vn = cross(v, n);
     let nu = cross(n, u);
-    let q = [
-        (uu * vn[0] + vv * nu[0]) * inv_2n2,
-        (uu * vn[1] + vv * nu[1]) * inv_2n2,
-        (uu * vn[2] + vv * nu[2]) * inv_2n2,
-    ];
+    let q =
+        [(uu * vn[0] + vv * nu[0]) * inv_2n2, (uu * vn[1] + vv * nu[1]) * inv_2n2, (uu * vn[2] + vv * nu[2]) * inv_2n2];
     let h2 = S::ONE - dot(q, q);
     if !(h2 >= S::ZERO) {
         return Err(Error::NoAssembly);

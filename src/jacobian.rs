@@ -113,11 +113,7 @@ impl<S: Real> Jacobian<S> {
     pub fn joint_torques(&self, force: [S; 3]) -> Result<[S; 3], Error> {
         finite3(force, Input::Force)?;
         let z = self.solve_rods_transposed(force)?;
-        Ok([
-            self.rates[0] * z[0] * self.scale,
-            self.rates[1] * z[1] * self.scale,
-            self.rates[2] * z[2] * self.scale,
-        ])
+        Ok([self.rates[0] * z[0] * self.scale, self.rates[1] * z[1] * self.scale, self.rates[2] * z[2] * self.scale])
     }
 
     /// The full Jacobian `J` (mm/rad), `v = J w`, as rows.

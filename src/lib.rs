@@ -5,13 +5,7 @@
 // passes a check.
 #![allow(clippy::neg_cmp_op_on_partial_ord)]
 #![warn(missing_docs)]
-#![deny(
-    clippy::unwrap_used,
-    clippy::expect_used,
-    clippy::panic,
-    clippy::indexing_slicing,
-    clippy::float_cmp_const
-)]
+#![deny(clippy::unwrap_used, clippy::expect_used, clippy::panic, clippy::indexing_slicing, clippy::float_cmp_const)]
 #![cfg_attr(test, allow(clippy::unwrap_used, clippy::expect_used, clippy::indexing_slicing))]
 
 #[cfg(feature = "std")]

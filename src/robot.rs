@@ -48,7 +48,13 @@ pub struct Limits<S> {
 impl<S: Copy> Limits<S> {
     /// The same joint range on all three arms.
     #[must_use]
-    pub const fn uniform(joint_min: S, joint_max: S, passive_cone: S, min_serial_margin: S, min_parallel_margin: S) -> Self {
+    pub const fn uniform(
+        joint_min: S,
+        joint_max: S,
+        passive_cone: S,
+        min_serial_margin: S,
+        min_parallel_margin: S,
+    ) -> Self {
         Self {
             joint_min: [joint_min; 3],
             joint_max: [joint_max; 3],
@@ -199,12 +205,9 @@ impl<S: Real> Robot<S> {
         let inv_two_a = S::ONE.checked_div(S::TWO * a).ok_or(geo_fault(ConfigFault::Unrepresentable))?;
         let half_sqrt3 = constant::<S>(0.866_025_403_784_438_6).map_err(geo_fault)?;
         let azimuths = [(S::ONE, S::ZERO), (-S::HALF, half_sqrt3), (-S::HALF, -half_sqrt3)];
-        let mut arms = [ArmConstants {
-            cos_phi: S::ONE,
-            sin_phi: S::ZERO,
-            elbow_axis: [S::ZERO; 3],
-            platform_axis: [S::ZERO; 3],
-        }; 3];
+        let mut arms =
+            [ArmConstants { cos_phi: S::ONE, sin_phi: S::ZERO, elbow_axis: [S::ZERO; 3], platform_axis: [S::ZERO; 3] };
+                3];
         for ((arm, &(cos_phi, sin_phi)), (&lo, &hi)) in
             arms.iter_mut().zip(azimuths.iter()).zip(limits.joint_min.iter().zip(limits.joint_max.iter()))
         {

@@ -126,9 +126,13 @@ mod tests {
     const ROUND_TRIP_F32_MM: f32 = 2e-3;
 
     fn grid() -> impl Iterator<Item = [f64; 3]> {
-        (0..7).flat_map(|i| (0..7).flat_map(move |j| (0..5).map(move |k| {
-            [-300.0 + 100.0 * f64::from(i), -300.0 + 100.0 * f64::from(j), -700.0 - 80.0 * f64::from(k)]
-        })))
+        (0..7).flat_map(|i| {
+            (0..7).flat_map(move |j| {
+                (0..5).map(move |k| {
+                    [-300.0 + 100.0 * f64::from(i), -300.0 + 100.0 * f64::from(j), -700.0 - 80.0 * f64::from(k)]
+                })
+            })
+        })
     }
 
     #[test]

@@ -167,7 +167,9 @@ impl RobotFile {
     /// [`ConfigError::Robot`] when a number is not representable in `S` or
     /// the robot is invalid.
     pub fn robot<S: Real>(&self) -> Result<Robot<S>, ConfigError> {
-        let conv = |v: f64| S::from_f64(v).ok_or(ConfigError::Robot(Error::InvalidGeometry(deltakin::ConfigFault::Unrepresentable)));
+        let conv = |v: f64| {
+            S::from_f64(v).ok_or(ConfigError::Robot(Error::InvalidGeometry(deltakin::ConfigFault::Unrepresentable)))
+        };
         let g = self.geometry_f64();
         let l = self.limits_f64();
         let conv3 = |v: [f64; 3]| -> Result<[S; 3], ConfigError> { Ok([conv(v[0])?, conv(v[1])?, conv(v[2])?]) };

@@ -86,8 +86,11 @@ pub const fn sqrt_f32(x: f32) -> f32 {
 /// so `k * PIO2_1` is exact for `|k| < 2^16`; the constants are twice the
 /// pi/4 split used by the Cephes single-precision library (from memory;
 /// the test `pio2_split_sums_to_pi_over_2` checks the sum and bit counts).
+#[allow(clippy::excessive_precision)] // written as the exact decimal of the f32 value
 const PIO2_1: f32 = 1.570_312_5;
+#[allow(clippy::excessive_precision)]
 const PIO2_2: f32 = 4.837_512_969_970_703_125e-4;
+#[allow(clippy::excessive_precision)]
 const PIO2_3: f32 = 7.549_789_954_891_882_16e-8;
 
 /// Taylor coefficients of sine and cosine (exact reciprocals of factorials,
