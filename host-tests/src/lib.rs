@@ -4,3 +4,4 @@
 pub mod bounds;
 pub mod config;
 pub mod reference;
+pub mod volume;
