@@ -104,7 +104,7 @@ fn z_span(robot: &Robot<f64>) -> Option<(f64, f64)> {
     let mut lo = f64::INFINITY;
     let mut hi = f64::NEG_INFINITY;
     for i in 0..=n {
-        let z = reach * (f64::from(i) / f64::from(n)) * -1.0 - 1e-9;
+        let z = -(reach * f64::from(i) / f64::from(n)) - 1e-9;
         let r_step = reach / 20.0;
         for k in 0..=20 {
             let r = r_step * f64::from(k);
@@ -174,8 +174,8 @@ pub fn usable_volume(robot: &Robot<f64>, grid: VolumeGrid) -> Option<UsableVolum
     let mut cylinder = Cylinder { radius_mm: 0.0, z_min_mm: z_lo, z_max_mm: z_lo };
     for i in 0..levels {
         let mut r = f64::INFINITY;
-        for j in i..levels {
-            r = r.min(radii[j]);
+        for (j, &radius) in radii.iter().enumerate().skip(i) {
+            r = r.min(radius);
             if r <= 0.0 {
                 break;
             }
