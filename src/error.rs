@@ -46,6 +46,8 @@ pub enum ConfigFault {
     NotPositive,
     /// A dimension exceeds [`crate::MAX_DIMENSION_MM`].
     TooLarge,
+    /// A dimension is below [`crate::MIN_DIMENSION_MM`].
+    TooSmall,
     /// The lower arm is not longer than the upper arm.
     LowerArmNotLonger,
     /// The joint range is empty (`min >= max`) or leaves `(-pi, pi)`.
@@ -137,6 +139,7 @@ impl fmt::Display for ConfigFault {
             ConfigFault::NonFinite => "a value is not finite",
             ConfigFault::NotPositive => "a dimension is not positive",
             ConfigFault::TooLarge => "a dimension exceeds the supported maximum",
+            ConfigFault::TooSmall => "a dimension is below the supported minimum",
             ConfigFault::LowerArmNotLonger => "the lower arm must be longer than the upper arm",
             ConfigFault::JointRange => "the joint range is empty or leaves (-180, 180) degrees",
             ConfigFault::PassiveCone => "the passive-joint cone half-angle must lie in (0, 90) degrees",

@@ -15,6 +15,12 @@ use crate::scalar::Real;
 /// positions stay far inside every supported number type.
 pub const MAX_DIMENSION_MM: f64 = 1.0e5;
 
+/// Smallest dimension deltakin accepts, in millimetres. Together with
+/// [`MAX_DIMENSION_MM`] it bounds every ratio of dimensions by 1e5, so the
+/// precomputed constants (such as `1 / (2 upper_arm / lower_arm)`) stay
+/// finite and far from the limits of f32.
+pub const MIN_DIMENSION_MM: f64 = 1.0;
+
 /// The four dimensions of a rotary delta robot, in millimetres (see the
 /// conventions in the crate documentation).
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -125,7 +131,7 @@ impl<S: Real> Geometry<S> {
     /// Checks that the four dimensions describe a machine deltakin serves.
     ///
     /// * every dimension finite and positive;
-    /// * none above [`MAX_DIMENSION_MM`];
+    /// * none below [`MIN_DIMENSION_MM`] or above [`MAX_DIMENSION_MM`];
     /// * the lower arm strictly longer than the upper arm. Every rotary
     ///   delta in practice is built this way (ratios of about 1.5 to 3.5),
     ///   and it is the design family deltakin's accuracy is verified on; a
@@ -137,6 +143,7 @@ impl<S: Real> Geometry<S> {
     pub fn validate(&self) -> Result<(), Error> {
         let dims = [self.base_radius, self.platform_radius, self.upper_arm, self.lower_arm];
         let max = constant::<S>(MAX_DIMENSION_MM).map_err(Error::InvalidGeometry)?;
+        let min = constant::<S>(MIN_DIMENSION_MM).map_err(Error::InvalidGeometry)?;
         if !dims.iter().all(|v| v.is_finite()) {
             return Err(Error::InvalidGeometry(ConfigFault::NonFinite));
         }
@@ -145,6 +152,9 @@ impl<S: Real> Geometry<S> {
         }
         if !dims.iter().all(|&v| v <= max) {
             return Err(Error::InvalidGeometry(ConfigFault::TooLarge));
+        }
+        if !dims.iter().all(|&v| v >= min) {
+            return Err(Error::InvalidGeometry(ConfigFault::TooSmall));
         }
         if !(self.lower_arm > self.upper_arm) {
             return Err(Error::InvalidGeometry(ConfigFault::LowerArmNotLonger));
@@ -294,6 +304,8 @@ mod tests {
             (Geometry { upper_arm: 0.0, ..geometry() }, ConfigFault::NotPositive),
             (Geometry { platform_radius: -1.0, ..geometry() }, ConfigFault::NotPositive),
             (Geometry { lower_arm: 2.0e5, ..geometry() }, ConfigFault::TooLarge),
+            (Geometry { platform_radius: 0.5, ..geometry() }, ConfigFault::TooSmall),
+            (Geometry { base_radius: 1e-40, ..geometry() }, ConfigFault::TooSmall),
             (Geometry { lower_arm: 350.0, ..geometry() }, ConfigFault::LowerArmNotLonger),
         ];
         for (g, why) in cases {
