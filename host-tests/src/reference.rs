@@ -261,7 +261,7 @@ pub fn other_root(g: &Geometry<f64>, arm: usize, theta: f64, p: [f64; 3]) -> Opt
     let elbow = rotate_z(-azimuth(arm), elbow(g, arm, theta));
     let axis = [joint[0] - g.base_radius, joint[2]];
     let len = axis[0].hypot(axis[1]);
-    if !(len > 0.0) {
+    if len.is_nan() || len <= 0.0 {
         return None;
     }
     let u = [axis[0] / len, axis[1] / len];
@@ -290,10 +290,11 @@ fn solve3(mut m: [[f64; 3]; 3], mut b: [f64; 3]) -> Option<[f64; 3]> {
         }
         m.swap(col, pivot);
         b.swap(col, pivot);
+        let pivot_row = m[col];
         for row in col + 1..3 {
-            let k = m[row][col] / m[col][col];
-            for c in col..3 {
-                m[row][c] -= k * m[col][c];
+            let k = m[row][col] / pivot_row[col];
+            for (entry, &p) in m[row].iter_mut().zip(pivot_row.iter()).skip(col) {
+                *entry -= k * p;
             }
             b[row] -= k * b[col];
         }

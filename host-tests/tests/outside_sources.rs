@@ -124,7 +124,10 @@ fn serial_margin_vanishes_where_the_arms_stretch_or_fold_on_the_axis() {
             let sol = robot.inverse_unguarded([0.0, 0.0, z]).expect("reachable on the axis");
             let expected = on_axis_margin(&g, z);
             for (arm, &m) in sol.margins.serial.iter().enumerate() {
-                assert!((m - expected).abs() <= ON_AXIS_MARGIN_TOL, "z {z}, arm {arm}: margin {m}, triangle {expected}");
+                assert!(
+                    (m - expected).abs() <= ON_AXIS_MARGIN_TOL,
+                    "z {z}, arm {arm}: margin {m}, triangle {expected}"
+                );
             }
             // Falls towards zero as z approaches the singular height ...
             assert!(expected < previous);
@@ -211,7 +214,12 @@ fn a_larger_base_minus_platform_offset_shrinks_the_reachable_volume() {
     let volumes: Vec<f64> = [0.0, 100.0, 200.0, 300.0, 400.0]
         .iter()
         .map(|&d| {
-            reachable_volume(Geometry { base_radius: 40.0 + d, platform_radius: 40.0, upper_arm: 400.0, lower_arm: 1000.0 })
+            reachable_volume(Geometry {
+                base_radius: 40.0 + d,
+                platform_radius: 40.0,
+                upper_arm: 400.0,
+                lower_arm: 1000.0,
+            })
         })
         .collect();
     for w in volumes.windows(2) {
