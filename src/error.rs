@@ -100,7 +100,8 @@ pub enum Error {
     },
     /// An arm is closer to a serial (Type I) singularity than allowed: the
     /// lower arm is nearly square to the elbow's direction of travel, the
-    /// arm nearly stretched or folded.
+    /// arm nearly stretched or folded. Also reported for an arm on the
+    /// elbow-in branch, which lies beyond that singularity.
     NearSerialSingularity {
         /// The arm.
         arm: u8,

@@ -27,8 +27,9 @@ pub(crate) fn check_joints<S: Real>(robot: &Robot<S>, joints: [S; 3]) -> Result<
 }
 
 /// Checks a solution against every limit, in this order: joint ranges,
-/// passive-joint cones (elbow before platform), serial margins, parallel
-/// margin. The first violation is reported.
+/// serial margins (which also refuse the elbow-in branch, whose margin is
+/// negative), parallel margin, passive-joint cones (elbow before platform).
+/// The first violation is reported.
 ///
 /// # Errors
 /// [`Error::JointLimit`], [`Error::PassiveLimit`],
@@ -36,16 +37,6 @@ pub(crate) fn check_joints<S: Real>(robot: &Robot<S>, joints: [S; 3]) -> Result<
 pub(crate) fn check<S: Real>(robot: &Robot<S>, solution: &Solution<S>) -> Result<(), Error> {
     check_joints(robot, solution.joints)?;
     let m = &solution.margins;
-    for (arm, &[elbow, platform]) in m.passive_tilt_cos.iter().enumerate() {
-        #[allow(clippy::cast_possible_truncation)] // arm < 3
-        let arm = arm as u8;
-        if !(elbow >= robot.cos_cone) {
-            return Err(Error::PassiveLimit { arm, end: JointEnd::Elbow });
-        }
-        if !(platform >= robot.cos_cone) {
-            return Err(Error::PassiveLimit { arm, end: JointEnd::Platform });
-        }
-    }
     let min_serial = robot.limits().min_serial_margin;
     for (arm, &margin) in m.serial.iter().enumerate() {
         if !(margin >= min_serial) {
@@ -55,6 +46,16 @@ pub(crate) fn check<S: Real>(robot: &Robot<S>, solution: &Solution<S>) -> Result
     }
     if !(m.parallel >= robot.limits().min_parallel_margin) {
         return Err(Error::NearParallelSingularity);
+    }
+    for (arm, &[elbow, platform]) in m.passive_tilt_cos.iter().enumerate() {
+        #[allow(clippy::cast_possible_truncation)] // arm < 3
+        let arm = arm as u8;
+        if !(elbow >= robot.cos_cone) {
+            return Err(Error::PassiveLimit { arm, end: JointEnd::Elbow });
+        }
+        if !(platform >= robot.cos_cone) {
+            return Err(Error::PassiveLimit { arm, end: JointEnd::Platform });
+        }
     }
     Ok(())
 }

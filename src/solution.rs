@@ -12,8 +12,14 @@ use crate::scalar::Real;
 /// formulas and [`Robot`] for the passive-joint axes.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Margins<S> {
-    /// Serial (Type I) margin of each arm, in `[0, 1]`: the cosine of the
-    /// angle between the lower arm and the elbow's direction of travel.
+    /// Serial (Type I) margin of each arm, in `[-1, 1]`: the cosine of the
+    /// angle between the lower arm and the elbow's direction of travel,
+    /// signed so that it is positive on the conventions' elbow-out branch
+    /// and negative on the other (elbow-in) one. The two branches meet at
+    /// the serial singularity (margin 0), so a negative margin means the
+    /// arm has passed through it; the guard rejects it like any margin
+    /// below the minimum. Inverse kinematics always returns the elbow-out
+    /// branch (margin >= 0); forward kinematics can meet either.
     pub serial: [S; 3],
     /// Parallel (Type II) margin, in `[0, 1]`: `|det|` of the three unit
     /// lower-arm vectors.
@@ -45,6 +51,8 @@ impl<S: Real> Solution<S> {
         let mut rates = [S::ZERO; 3];
         let mut serial = [S::ZERO; 3];
         let mut tilt = [[S::ONE; 2]; 3];
+        let [_, _, z] = position_mm;
+        let above = z > S::ZERO;
         let parts = rods.iter_mut().zip(rates.iter_mut()).zip(serial.iter_mut()).zip(tilt.iter_mut());
         for ((((rod_w, rate), margin), tilt), (state, k)) in parts.zip(arms.iter().zip(robot.arms.iter())) {
             let [rx, ry, rz] = state.rod;
@@ -53,7 +61,10 @@ impl<S: Real> Solution<S> {
             // dE/dt = a (-sin t, 0, -cos t) in the arm plane.
             let along = state.sin * rx + state.cos * rz;
             *rate = -(robot.a * along);
-            *margin = along.abs();
+            // Signed so that the conventions' branch is positive: on the
+            // elbow-out branch `along` is negative below the actuator plane
+            // and positive above it (see `Margins::serial`).
+            *margin = if above { along } else { -along };
             let elbow_local = to_upper_arm_frame(state.rod, state.sin, state.cos);
             *tilt = [dot(elbow_local, k.elbow_axis), dot(state.rod, k.platform_axis)];
         }

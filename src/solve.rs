@@ -25,8 +25,8 @@ impl<S: Real> Robot<S> {
     /// # Errors
     /// [`Error::NonFinite`], [`Error::Unreachable`] (naming the arm), or
     /// the first violated limit: [`Error::JointLimit`],
-    /// [`Error::PassiveLimit`], [`Error::NearSerialSingularity`],
-    /// [`Error::NearParallelSingularity`].
+    /// [`Error::NearSerialSingularity`] (also for an arm on the elbow-in
+    /// branch), [`Error::NearParallelSingularity`], [`Error::PassiveLimit`].
     ///
     /// # Panics
     /// Never.
@@ -175,5 +175,36 @@ mod tests {
         assert!(matches!(r.inverse([0.0, 0.0, -5000.0]), Err(Error::Unreachable { .. })));
         assert!(matches!(r.forward_unguarded([7.0, 0.0, 0.0]), Err(Error::JointLimit { arm: 0, .. })));
         assert!(matches!(r.forward([0.0, 0.0, f64::NAN]), Err(Error::NonFinite { .. })));
+    }
+
+    #[test]
+    fn elbow_in_poses_have_negative_serial_margin_and_are_refused() {
+        // Wide joint range and cones, so that only the branch can refuse.
+        let r = Robot::new(*robot::<f64>().geometry(), Limits::uniform(-3.0, 3.0, 1.55, 0.02, 0.0)).unwrap();
+        let target = [40.0, -30.0, -820.0];
+        let sol = r.inverse(target).unwrap();
+        assert!(sol.margins.serial.iter().all(|&m| m > 0.0));
+        // Arm 0's other root at the same platform position: reflect its
+        // elbow about the line from the actuator axis to the platform
+        // joint (in the arm plane, x radial, z up, lower-arm units).
+        let scale = 750.0;
+        let (d, a) = ((180.0 - 45.0) / scale, 300.0 / scale);
+        let (x, z) = (target[0] / scale - d, target[2] / scale);
+        let t = sol.joints[0];
+        let (ex, ez) = (a * t.cos(), -a * t.sin());
+        let n2 = x * x + z * z;
+        let k = 2.0 * (ex * x + ez * z) / n2;
+        let (rx, rz) = (k * x - ex, k * z - ez);
+        let other = (-rz).atan2(rx);
+        assert!(other.cos() < t.cos(), "the reflected root is the elbow-in one");
+        let joints = [other, sol.joints[1], sol.joints[2]];
+        let fk = r.forward_unguarded(joints).unwrap();
+        for (p, q) in fk.position.iter().zip(target.iter()) {
+            assert!((p - q).abs() < 1e-9, "same platform position");
+        }
+        assert!(fk.margins.serial[0] < 0.0 && fk.margins.serial[1] > 0.0);
+        // Inside the joint range, so only the branch check can refuse it.
+        assert!(r.limits().joint_min[0] < other && other < r.limits().joint_max[0], "{other}");
+        assert_eq!(r.forward(joints), Err(Error::NearSerialSingularity { arm: 0 }));
     }
 }
