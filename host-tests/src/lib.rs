@@ -1,6 +1,11 @@
 //! The deltakin host harness: the robot file, an independent f64
-//! reference, workspace sweeps, the report and the CLI. std only.
+//! reference, workspace sweeps, the cross-check report and the CLI. std only.
 
 pub mod bounds;
+pub mod cli;
 pub mod config;
+pub mod crosscheck;
 pub mod reference;
+pub mod report;
+pub mod stats;
+pub mod sweep;
