@@ -57,7 +57,7 @@ pub enum Command {
     /// word naming the problem (unreachable, joint_limit, passive_limit,
     /// near_serial, near_parallel, non_finite, or bad_row for a row that
     /// is not three numbers); the angles are empty on a row that is not
-    /// `ok`, and the batch goes on.
+    /// `ok`, and the batch goes on. Blank lines are skipped.
     #[command(after_help = "Example:\n  printf 'x_mm,y_mm,z_mm\\n0,0,-700\\n' | deltakin ik --scalar f32")]
     Ik(SolveArgs),
     /// Forward kinematics: joint angles (CSV on stdin) to platform
@@ -104,16 +104,23 @@ pub struct ReportArgs {
     /// Also write every figure as JSON to FILE.
     #[arg(long, value_name = "FILE")]
     pub json: Option<PathBuf>,
-    /// Sweep density: grid points per axis of the Cartesian and joint
-    /// grids (shell rays grow as its square). Smaller is faster and
-    /// coarser.
-    #[arg(long, value_name = "N", default_value_t = DEFAULT_GRID,
+    /// Cartesian (IK) sweep density: grid points per axis; the shell
+    /// gets this many squared rays. The reference IK is slow (it samples
+    /// the whole circle), so this one is kept coarser.
+    #[arg(long, value_name = "N", default_value_t = DEFAULT_IK_GRID,
           value_parser = clap::value_parser!(u16).range(4..=400))]
-    pub grid: u16,
+    pub ik_grid: u16,
+    /// Joint (FK) sweep density: grid points per axis; the shell gets this
+    /// many squared rays.
+    #[arg(long, value_name = "N", default_value_t = DEFAULT_FK_GRID,
+          value_parser = clap::value_parser!(u16).range(4..=400))]
+    pub fk_grid: u16,
 }
 
-/// Default of `report --grid`.
-pub const DEFAULT_GRID: u16 = 72;
+/// Default of `report --ik-grid`.
+pub const DEFAULT_IK_GRID: u16 = 32;
+/// Default of `report --fk-grid`.
+pub const DEFAULT_FK_GRID: u16 = 64;
 
 /// The number type `ik` and `fk` compute in.
 ///
@@ -314,9 +321,10 @@ fn run_batch(args: &SolveArgs, direction: Direction) -> Result<ExitCode, Failure
 
 fn run_report(args: &ReportArgs) -> Result<ExitCode, Failure> {
     let robot = load_robot(args.robot.as_deref())?;
-    let density = Density { grid: usize::from(args.grid) };
+    let ik = Density { grid: usize::from(args.ik_grid) };
+    let fk = Density { grid: usize::from(args.fk_grid) };
     let started = std::time::Instant::now();
-    let findings = crosscheck::run(&robot, args.robot.is_none(), density)?;
+    let findings = crosscheck::run(&robot, args.robot.is_none(), ik, fk)?;
     let text = report::tables(&findings);
     let mut stdout = std::io::stdout().lock();
     stdout

@@ -175,7 +175,8 @@ fn side<S: Real>(robot: &Robot<S>, kind: Kind, input: [f64; 3]) -> Side {
         return Side { status: "unrepresentable", margins: None, output: None };
     };
     let x = [a, b, c];
-    let (guarded, unguarded): (_, fn(&Robot<S>, [S; 3]) -> Result<Solution<S>, Error>) = match kind {
+    type Solver<S> = fn(&Robot<S>, [S; 3]) -> Result<Solution<S>, Error>;
+    let (guarded, unguarded): (_, Solver<S>) = match kind {
         Kind::Inverse => (robot.inverse(x), Robot::inverse_unguarded),
         Kind::Forward => (robot.forward(x), Robot::forward_unguarded),
     };
@@ -348,7 +349,8 @@ fn breaches_of(sweep: &SweepFindings) -> Vec<String> {
     }
     for s in &sweep.scalars {
         let e = &s.error;
-        if !(e.max <= s.bound) {
+        // `summarize` reports a NaN error as infinite, so `>` catches it.
+        if e.max > s.bound {
             let at = e
                 .worst_at
                 .map_or_else(String::new, |p| format!(" at ({}, {}, {}) {}", p[0], p[1], p[2], sweep.input_unit));
@@ -380,7 +382,7 @@ pub type SetupError = crate::config::ConfigError;
 ///
 /// # Errors
 /// When the robot cannot be built in f64 or f32.
-pub fn run(file: &RobotFile, builtin_demo: bool, density: Density) -> Result<Findings, SetupError> {
+pub fn run(file: &RobotFile, builtin_demo: bool, ik: Density, fk: Density) -> Result<Findings, SetupError> {
     let r64 = file.robot::<f64>()?;
     let r32 = file.robot::<f32>()?;
     let setup = Setup { g64: *r64.geometry(), g32: geometry_as_f64(r32.geometry()), r64, r32 };
@@ -399,8 +401,8 @@ pub fn run(file: &RobotFile, builtin_demo: bool, density: Density) -> Result<Fin
         min_serial_margin: l.min_serial_margin,
         min_parallel_margin: l.min_parallel_margin,
     };
-    let ik = run_sweep(&setup, Kind::Inverse, &sweep::cartesian(&setup.r64, density));
-    let fk = run_sweep(&setup, Kind::Forward, &sweep::joint(&setup.r64, density));
+    let ik = run_sweep(&setup, Kind::Inverse, &sweep::cartesian(&setup.r64, ik));
+    let fk = run_sweep(&setup, Kind::Forward, &sweep::joint(&setup.r64, fk));
     let mut breaches = breaches_of(&ik);
     breaches.extend(breaches_of(&fk));
     Ok(Findings { robot, ik, fk, breaches })

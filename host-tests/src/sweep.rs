@@ -242,7 +242,7 @@ pub struct PointSet {
     pub shell: Vec<[f64; 3]>,
 }
 
-/// Sweep densities.
+/// Density of one sweep.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub struct Density {
     /// Dense grid points per axis (>= 2).
@@ -256,10 +256,11 @@ impl Density {
         (self.grid / 2).max(12)
     }
 
-    /// Shell rays: about half the points of one grid layer.
+    /// Shell rays: as many as the points of one grid layer, so the shell
+    /// is about as finely spread as the grid.
     #[must_use]
     pub fn rays(self) -> usize {
-        (self.grid * self.grid / 2).max(16)
+        (self.grid * self.grid).max(16)
     }
 }
 
