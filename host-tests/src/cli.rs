@@ -37,7 +37,13 @@ pub const BAD_ROW: &str = "bad_row";
 /// joint angle is 0 with the upper arm horizontal and positive with the
 /// elbow down. Lengths in millimetres, angles in degrees.
 #[derive(Debug, Parser)]
-#[command(name = "deltakin", version, propagate_version = true)]
+#[command(
+    name = "deltakin",
+    version,
+    propagate_version = true,
+    after_help = "Exit status: 0 success; 1 `report` found a broken accuracy bound; \
+                  2 usage or configuration problem (arguments, robot file, CSV header, I/O)."
+)]
 pub struct Cli {
     /// What to do.
     #[command(subcommand)]
