@@ -395,6 +395,48 @@ mod tests {
     }
 
     #[test]
+    fn every_reachable_position_lies_in_the_geometry_box() {
+        // FK over the whole joint box (unguarded: any assembly counts)
+        // must land inside the box derived from the geometry.
+        let robot = crate::config::RobotFile::demo().robot::<f64>().unwrap();
+        let b = geometry_box(robot.geometry(), robot.limits());
+        let mut reached = 0;
+        for t in grid(&joint_box(robot.limits()), 15) {
+            let Ok(s) = robot.forward_unguarded(t) else { continue };
+            reached += 1;
+            let p = s.position;
+            assert!((0..3).all(|k| b.lo[k] <= p[k] && p[k] <= b.hi[k]), "{t:?} -> {p:?} outside {b:?}");
+            assert!(p[0].hypot(p[1]) <= b.hi[0], "{p:?}");
+        }
+        assert!(reached > 1000, "only {reached} joint triples assemble");
+    }
+
+    #[test]
+    fn demo_sweeps_stay_in_their_boxes_and_find_a_shell() {
+        let robot = crate::config::RobotFile::demo().robot::<f64>().unwrap();
+        let outer = geometry_box(robot.geometry(), robot.limits());
+        let set = cartesian(&robot, Density { grid: 8 });
+        assert_eq!(set.grid.len(), 512);
+        assert_eq!(set.shell.len() % 3, 0);
+        // Most rays end on a boundary inside the box; a few shell points
+        // may fall out after rounding to f32, but not most.
+        assert!(set.shell.len() >= 3 * set.rays / 2, "{} shell points", set.shell.len());
+        let inside = set.shell.iter().filter(|p| robot.inverse(**p).is_ok()).count();
+        assert!(2 * inside > set.shell.len());
+        for p in set.grid.iter().chain(&set.shell) {
+            assert!((0..3).all(|k| outer.lo[k] <= p[k] && p[k] <= outer.hi[k]), "{p:?}");
+        }
+        let joints = joint(&robot, Density { grid: 8 });
+        let jb = joint_box(robot.limits());
+        for t in joints.grid.iter().chain(&joints.shell) {
+            // f32 rounding may step a corner value out by half an ulp.
+            const F32_HALF_ULP_RAD: f64 = 1e-7;
+            assert!((0..3).all(|k| jb.lo[k] - F32_HALF_ULP_RAD <= t[k] && t[k] <= jb.hi[k] + F32_HALF_ULP_RAD));
+        }
+        assert!(!joints.shell.is_empty());
+    }
+
+    #[test]
     fn par_map_keeps_order() {
         let v: Vec<u32> = (0..1001).collect();
         assert_eq!(par_map(&v, &|x| x * 2), v.iter().map(|x| x * 2).collect::<Vec<_>>());
