@@ -109,11 +109,16 @@ impl<S: Real> Jacobian<S> {
     ///
     /// # Errors
     /// [`Error::NonFinite`] for a non-finite force;
-    /// [`Error::NearParallelSingularity`] when `det J_p` is too small.
+    /// [`Error::NearParallelSingularity`] when `det J_p` is too small, or
+    /// (as for [`Jacobian::cartesian_velocity`]) when a torque would
+    /// overflow the number type, which takes a finite force far beyond any
+    /// machine's (about 1e36 N in f32).
     pub fn joint_torques(&self, force: [S; 3]) -> Result<[S; 3], Error> {
         finite3(force, Input::Force)?;
         let z = self.solve_rods_transposed(force)?;
-        Ok([self.rates[0] * z[0] * self.scale, self.rates[1] * z[1] * self.scale, self.rates[2] * z[2] * self.scale])
+        let out =
+            [self.rates[0] * z[0] * self.scale, self.rates[1] * z[1] * self.scale, self.rates[2] * z[2] * self.scale];
+        if out.iter().all(|v| v.is_finite()) { Ok(out) } else { Err(Error::NearParallelSingularity) }
     }
 
     /// The full Jacobian `J` (mm/rad), `v = J w`, as rows.
@@ -146,5 +151,21 @@ impl<S: Real> Jacobian<S> {
         let inv = S::ONE.checked_div(self.det).ok_or(Error::NearParallelSingularity)?;
         let out = [dot(f, cross(r1, r2)) * inv, dot(f, cross(r2, r0)) * inv, dot(f, cross(r0, r1)) * inv];
         if out.iter().all(|v| v.is_finite()) { Ok(out) } else { Err(Error::NearParallelSingularity) }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use crate::{Error, Geometry, Limits, Robot};
+
+    #[test]
+    fn a_torque_that_would_overflow_is_an_error_not_infinity() {
+        let g = Geometry { base_radius: 160.0_f32, platform_radius: 40.0, upper_arm: 280.0, lower_arm: 720.0 };
+        let robot = Robot::new(g, Limits::uniform(-0.6, 1.5, 0.7, 0.1, 0.1)).unwrap();
+        let jac = robot.inverse([0.0, 0.0, -700.0]).unwrap().jacobian;
+        // Finite in, finite out for an ordinary force ...
+        assert!(jac.joint_torques([0.0, 0.0, -50.0]).unwrap().iter().all(|t| t.is_finite()));
+        // ... and an error, not an infinite torque, for a finite but absurd one.
+        assert_eq!(jac.joint_torques([1.0e37, 0.0, 0.0]), Err(Error::NearParallelSingularity));
     }
 }

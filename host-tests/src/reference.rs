@@ -247,6 +247,39 @@ pub fn inverse(g: &Geometry<f64>, p: [f64; 3]) -> Option<[f64; 3]> {
     Some([inverse_arm(g, 0, p)?, inverse_arm(g, 1, p)?, inverse_arm(g, 2, p)?])
 }
 
+/// The other root of arm `arm`'s closure, given one root `theta` (rad)
+/// for platform centre `p` (mm), found by plain geometry rather than by
+/// search: in the arm's vertical plane both elbows lie on the circle of
+/// radius `upper_arm` around the actuator axis and on the circle where the
+/// lower arm's sphere around the platform joint cuts that plane, so they
+/// are mirror images across the line joining the two circles' centres.
+/// `None` when those centres coincide (the roots then form a continuum).
+#[must_use]
+pub fn other_root(g: &Geometry<f64>, arm: usize, theta: f64, p: [f64; 3]) -> Option<f64> {
+    // Work in the arm's plane frame: x radial, z up (y drops out).
+    let joint = rotate_z(-azimuth(arm), platform_joint(g, arm, p));
+    let elbow = rotate_z(-azimuth(arm), elbow(g, arm, theta));
+    let axis = [joint[0] - g.base_radius, joint[2]];
+    let len = axis[0].hypot(axis[1]);
+    if len.is_nan() || len <= 0.0 {
+        return None;
+    }
+    let u = [axis[0] / len, axis[1] / len];
+    let e = [elbow[0] - g.base_radius, elbow[2]];
+    let along = e[0] * u[0] + e[1] * u[1];
+    let mirrored = [2.0 * along * u[0] - e[0], 2.0 * along * u[1] - e[1]];
+    // Elbow offset is upper_arm (cos t, -sin t).
+    Some((-mirrored[1]).atan2(mirrored[0]))
+}
+
+/// `true` when every arm of the pose (`theta` rad, `p` mm) sits on the
+/// elbow-out branch of the conventions (`cos theta_i` at least that of the
+/// other root), so that inverse kinematics would give `theta` back.
+#[must_use]
+pub fn is_elbow_out(g: &Geometry<f64>, theta: [f64; 3], p: [f64; 3]) -> bool {
+    (0..3).all(|i| other_root(g, i, theta[i], p).is_some_and(|other| theta[i].cos() >= other.cos()))
+}
+
 /// Solves the 3x3 system `m x = b` by Gaussian elimination with partial
 /// pivoting; `None` when a pivot vanishes.
 fn solve3(mut m: [[f64; 3]; 3], mut b: [f64; 3]) -> Option<[f64; 3]> {
@@ -257,10 +290,11 @@ fn solve3(mut m: [[f64; 3]; 3], mut b: [f64; 3]) -> Option<[f64; 3]> {
         }
         m.swap(col, pivot);
         b.swap(col, pivot);
+        let pivot_row = m[col];
         for row in col + 1..3 {
-            let k = m[row][col] / m[col][col];
-            for c in col..3 {
-                m[row][c] -= k * m[col][c];
+            let k = m[row][col] / pivot_row[col];
+            for (entry, &p) in m[row].iter_mut().zip(pivot_row.iter()).skip(col) {
+                *entry -= k * p;
             }
             b[row] -= k * b[col];
         }
@@ -426,6 +460,24 @@ mod tests {
         // Elbow-out: the chosen elbow is farther from the z axis.
         let radial = |e: [f64; 3]| e[0].hypot(e[1]);
         assert!(radial(elbow(&g, 0, chosen)) > radial(elbow(&g, 0, other)));
+    }
+
+    #[test]
+    fn the_mirrored_elbow_is_the_other_root() {
+        let g = geometry();
+        for &p in &[[30.0, -40.0, -600.0], [-150.0, 90.0, -750.0]] {
+            for arm in 0..3 {
+                let roots = arm_roots(&g, arm, p);
+                let chosen = inverse_arm(&g, arm, p).expect("reachable");
+                let other = other_root(&g, arm, chosen, p).expect("distinct centres");
+                assert!(roots.iter().any(|r| (r - other).abs() < 1e-12), "{other} not in {roots:?}");
+                assert!((other - chosen).abs() > 1e-6 && chosen.cos() > other.cos());
+                let mut theta = inverse(&g, p).expect("reachable");
+                assert!(is_elbow_out(&g, theta, p));
+                theta[arm] = other;
+                assert!(!is_elbow_out(&g, theta, p));
+            }
+        }
     }
 
     #[test]
