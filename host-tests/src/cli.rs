@@ -131,7 +131,7 @@ pub const DEFAULT_FK_GRID: u16 = 64;
 /// The number type `ik` and `fk` compute in.
 ///
 /// A new number type (the fixed-point one) becomes a new variant here, a
-/// [`CliScalar`] implementation below, and one arm in [`ScalarKind::dispatch`].
+/// [`CliScalar`] implementation below, and one arm in `ScalarKind::dispatch`.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
 pub enum ScalarKind {
     /// 32-bit float (the firmware path).
