@@ -1,0 +1,394 @@
+//! The `deltakin` command line: argument parsing, CSV in and out, and
+//! dispatch to the core and the report. No kinematics here.
+//!
+//! Exit status: 0 success; 1 `report` found a broken accuracy bound; 2 a
+//! usage or configuration problem (bad arguments, unreadable or invalid
+//! robot file, missing or wrong CSV header, I/O failure).
+
+use std::io::{BufWriter, Read, Write};
+use std::path::{Path, PathBuf};
+use std::process::ExitCode;
+
+use clap::{Args, Parser, Subcommand, ValueEnum};
+use deltakin::{Error, Real, Robot, Solution};
+
+use crate::config::{ConfigError, RobotFile};
+use crate::crosscheck;
+use crate::report;
+use crate::sweep::Density;
+
+/// Exit status when `report` finds a broken bound.
+pub const EXIT_GATE_FAILED: u8 = 1;
+/// Exit status for usage and configuration problems.
+pub const EXIT_USAGE: u8 = 2;
+
+/// CSV header `ik` reads and `fk` writes (before `status`).
+pub const POSITION_HEADER: [&str; 3] = ["x_mm", "y_mm", "z_mm"];
+/// CSV header `fk` reads and `ik` writes (before `status`).
+pub const JOINT_HEADER: [&str; 3] = ["theta0_deg", "theta1_deg", "theta2_deg"];
+/// Status of a row that is not three numbers.
+pub const BAD_ROW: &str = "bad_row";
+
+/// Kinematics of a rotary delta robot: batch inverse and forward
+/// kinematics over CSV, and an accuracy report.
+///
+/// Conventions (frames, units, signs, branches): base frame with z up and
+/// the platform below the base (z < 0); arm i at azimuth 120 deg * i; a
+/// joint angle is 0 with the upper arm horizontal and positive with the
+/// elbow down. Lengths in millimetres, angles in degrees.
+#[derive(Debug, Parser)]
+#[command(
+    name = "deltakin",
+    version,
+    propagate_version = true,
+    after_help = "Exit status: 0 success; 1 `report` found a broken accuracy bound; \
+                  2 usage or configuration problem (arguments, robot file, CSV header, I/O)."
+)]
+pub struct Cli {
+    /// What to do.
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+/// The subcommands.
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Inverse kinematics: platform positions (CSV on stdin) to joint
+    /// angles (CSV on stdout).
+    ///
+    /// Input header: x_mm,y_mm,z_mm. Output header:
+    /// theta0_deg,theta1_deg,theta2_deg,status. One output row per input
+    /// row, in order. Every limit and singularity margin of the robot is
+    /// enforced (guarded solve, elbow-out branch). status is `ok` or one
+    /// word naming the problem (unreachable, joint_limit, passive_limit,
+    /// near_serial, near_parallel, non_finite, or bad_row for a row that
+    /// is not three numbers); the angles are empty on a row that is not
+    /// `ok`, and the batch goes on. Blank lines are skipped.
+    #[command(after_help = "Example:\n  printf 'x_mm,y_mm,z_mm\\n0,0,-700\\n' | deltakin ik --scalar f32")]
+    Ik(SolveArgs),
+    /// Forward kinematics: joint angles (CSV on stdin) to platform
+    /// positions (CSV on stdout).
+    ///
+    /// Input header: theta0_deg,theta1_deg,theta2_deg. Output header:
+    /// x_mm,y_mm,z_mm,status. One output row per input row, in order.
+    /// Every limit and singularity margin is enforced (guarded solve,
+    /// platform below the elbows). status is `ok` or one word naming the
+    /// problem (as for `ik`, plus no_assembly when the arms cannot meet);
+    /// the position is empty on a row that is not `ok`.
+    #[command(after_help = "Example:\n  printf 'theta0_deg,theta1_deg,theta2_deg\\n20,20,20\\n' | deltakin fk")]
+    Fk(SolveArgs),
+    /// Sweep the workspace and cross-check the f32 and f64 cores against
+    /// the independent f64 reference.
+    ///
+    /// Prints the robot, the sweep, the worst-case and 99.9th-percentile
+    /// IK joint-angle error (microradians) and FK position error
+    /// (micrometres) with where they occur, the margins met over the
+    /// accepted volume and the status counts. Exits with status 1 when a
+    /// bound in host-tests/src/bounds.rs is broken (each one is named), 2
+    /// on a usage or robot-file problem.
+    Report(ReportArgs),
+}
+
+/// Options of `ik` and `fk`.
+#[derive(Debug, Args)]
+pub struct SolveArgs {
+    /// Robot file (TOML, see examples/demo_robot.toml); the built-in demo
+    /// robot when omitted.
+    #[arg(long, value_name = "FILE")]
+    pub robot: Option<PathBuf>,
+    /// Number type the core computes in.
+    #[arg(long, value_enum, default_value_t = ScalarKind::F64)]
+    pub scalar: ScalarKind,
+}
+
+/// Options of `report`.
+#[derive(Debug, Args)]
+pub struct ReportArgs {
+    /// Robot file (TOML); the built-in demo robot when omitted.
+    #[arg(long, value_name = "FILE")]
+    pub robot: Option<PathBuf>,
+    /// Also write every figure as JSON to FILE.
+    #[arg(long, value_name = "FILE")]
+    pub json: Option<PathBuf>,
+    /// Cartesian (IK) sweep density: grid points per axis; the shell
+    /// gets this many squared rays. The reference IK is slow (it samples
+    /// the whole circle), so this one is kept coarser.
+    #[arg(long, value_name = "N", default_value_t = DEFAULT_IK_GRID,
+          value_parser = clap::value_parser!(u16).range(4..=400))]
+    pub ik_grid: u16,
+    /// Joint (FK) sweep density: grid points per axis; the shell gets this
+    /// many squared rays.
+    #[arg(long, value_name = "N", default_value_t = DEFAULT_FK_GRID,
+          value_parser = clap::value_parser!(u16).range(4..=400))]
+    pub fk_grid: u16,
+}
+
+/// Default of `report --ik-grid`.
+pub const DEFAULT_IK_GRID: u16 = 32;
+/// Default of `report --fk-grid`.
+pub const DEFAULT_FK_GRID: u16 = 64;
+
+/// The number type `ik` and `fk` compute in.
+///
+/// A new number type (the fixed-point one) becomes a new variant here, a
+/// [`CliScalar`] implementation below, and one arm in `ScalarKind::dispatch`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum ScalarKind {
+    /// 32-bit float (the firmware path).
+    F32,
+    /// 64-bit float.
+    F64,
+}
+
+/// Something generic over the core's number type, run by
+/// [`ScalarKind::dispatch`].
+trait WithScalar {
+    type Output;
+    fn run<S: CliScalar>(self) -> Self::Output;
+}
+
+impl ScalarKind {
+    fn dispatch<W: WithScalar>(self, job: W) -> W::Output {
+        match self {
+            ScalarKind::F32 => job.run::<f32>(),
+            ScalarKind::F64 => job.run::<f64>(),
+        }
+    }
+}
+
+/// How the CLI reads numbers into, and prints numbers from, one of the
+/// core's number types.
+pub trait CliScalar: Real {
+    /// The value of an input number (already in core units), or the status
+    /// word for a number this type cannot take. Floats keep NaN and
+    /// infinities so the core itself reports them (`non_finite`).
+    ///
+    /// # Errors
+    /// The status word to print.
+    fn from_input(v: f64) -> Result<Self, &'static str>;
+
+    /// Prints `v` (an output in CSV units, computed from a value of this
+    /// type) with as many digits as this type carries: the shortest text
+    /// that reads back to the same value of this type.
+    fn print(v: f64) -> String;
+}
+
+impl CliScalar for f64 {
+    fn from_input(v: f64) -> Result<Self, &'static str> {
+        Ok(v)
+    }
+
+    fn print(v: f64) -> String {
+        format!("{v}")
+    }
+}
+
+impl CliScalar for f32 {
+    fn from_input(v: f64) -> Result<Self, &'static str> {
+        // Rounds to nearest; beyond the f32 range this gives an infinity,
+        // which the core reports as non_finite.
+        #[allow(clippy::cast_possible_truncation)]
+        Ok(v as f32)
+    }
+
+    fn print(v: f64) -> String {
+        #[allow(clippy::cast_possible_truncation)]
+        let v = v as f32;
+        format!("{v}")
+    }
+}
+
+/// A whole-command failure: one message, exit status 2.
+#[derive(Debug)]
+pub struct Failure(pub String);
+
+impl From<ConfigError> for Failure {
+    fn from(e: ConfigError) -> Self {
+        Failure(e.to_string())
+    }
+}
+
+fn load_robot(path: Option<&Path>) -> Result<RobotFile, Failure> {
+    RobotFile::load(path).map_err(Failure::from)
+}
+
+/// Which direction a batch solves.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum Direction {
+    Inverse,
+    Forward,
+}
+
+impl Direction {
+    fn headers(self) -> ([&'static str; 3], [&'static str; 3]) {
+        match self {
+            Direction::Inverse => (POSITION_HEADER, JOINT_HEADER),
+            Direction::Forward => (JOINT_HEADER, POSITION_HEADER),
+        }
+    }
+}
+
+/// One CSV batch through the guarded core.
+struct Batch<'a> {
+    direction: Direction,
+    robot: &'a RobotFile,
+    input: &'a [u8],
+}
+
+impl WithScalar for Batch<'_> {
+    type Output = Result<Vec<u8>, Failure>;
+
+    fn run<S: CliScalar>(self) -> Self::Output {
+        let robot = self.robot.robot::<S>()?;
+        solve_batch(&robot, self.direction, self.input)
+    }
+}
+
+/// Turns one parsed row (CSV units) into one output row.
+fn solve_row<S: CliScalar>(robot: &Robot<S>, direction: Direction, values: [f64; 3]) -> String {
+    let core_units = match direction {
+        Direction::Inverse => values,
+        Direction::Forward => values.map(f64::to_radians),
+    };
+    let [a, b, c] = core_units.map(S::from_input);
+    let x = match (a, b, c) {
+        (Ok(a), Ok(b), Ok(c)) => [a, b, c],
+        (Err(w), _, _) | (_, Err(w), _) | (_, _, Err(w)) => return format!(",,,{w}"),
+    };
+    let solved: Result<Solution<S>, Error> = match direction {
+        Direction::Inverse => robot.inverse(x),
+        Direction::Forward => robot.forward(x),
+    };
+    match solved {
+        Ok(s) => {
+            let out = match direction {
+                Direction::Inverse => s.joints.map(|t| t.to_f64().to_degrees()),
+                Direction::Forward => s.position.map(|v| v.to_f64()),
+            };
+            format!("{},{},{},ok", S::print(out[0]), S::print(out[1]), S::print(out[2]))
+        }
+        Err(e) => format!(",,,{}", e.status_word()),
+    }
+}
+
+/// Parses a data row: exactly three numbers.
+fn parse_row(record: &csv::ByteRecord) -> Option<[f64; 3]> {
+    if record.len() != 3 {
+        return None;
+    }
+    let field = |i: usize| -> Option<f64> { std::str::from_utf8(record.get(i)?).ok()?.trim().parse().ok() };
+    Some([field(0)?, field(1)?, field(2)?])
+}
+
+fn solve_batch<S: CliScalar>(robot: &Robot<S>, direction: Direction, input: &[u8]) -> Result<Vec<u8>, Failure> {
+    let (in_header, out_header) = direction.headers();
+    let mut reader = csv::ReaderBuilder::new().has_headers(false).flexible(true).from_reader(input);
+    let mut records = reader.byte_records();
+    let want = in_header.join(",");
+    let header = match records.next() {
+        None => return Err(Failure(format!("no input: expected the CSV header {want} on stdin"))),
+        Some(Err(e)) => return Err(Failure(format!("cannot read the CSV header: {e}"))),
+        Some(Ok(h)) => h,
+    };
+    let got: Vec<String> = header.iter().map(|f| String::from_utf8_lossy(f).trim().to_owned()).collect();
+    if got != in_header {
+        return Err(Failure(format!("wrong CSV header: expected {want}, found {}", got.join(","))));
+    }
+    let mut out = Vec::with_capacity(input.len() * 2);
+    out.extend_from_slice(out_header.join(",").as_bytes());
+    out.extend_from_slice(b",status\n");
+    for (line, record) in records.enumerate() {
+        let row = match record {
+            Ok(r) => parse_row(&r).map_or_else(|| format!(",,,{BAD_ROW}"), |v| solve_row(robot, direction, v)),
+            // A malformed record (bad quoting) is a bad row; an I/O error is not.
+            Err(e) if matches!(e.kind(), csv::ErrorKind::Io(_)) => {
+                return Err(Failure(format!("cannot read input row {}: {e}", line + 1)));
+            }
+            Err(_) => format!(",,,{BAD_ROW}"),
+        };
+        out.extend_from_slice(row.as_bytes());
+        out.push(b'\n');
+    }
+    Ok(out)
+}
+
+fn run_batch(args: &SolveArgs, direction: Direction) -> Result<ExitCode, Failure> {
+    let robot = load_robot(args.robot.as_deref())?;
+    let mut input = Vec::new();
+    std::io::stdin().lock().read_to_end(&mut input).map_err(|e| Failure(format!("cannot read stdin: {e}")))?;
+    let output = args.scalar.dispatch(Batch { direction, robot: &robot, input: &input })?;
+    let mut stdout = BufWriter::new(std::io::stdout().lock());
+    stdout
+        .write_all(&output)
+        .and_then(|()| stdout.flush())
+        .map_err(|e| Failure(format!("cannot write stdout: {e}")))?;
+    Ok(ExitCode::SUCCESS)
+}
+
+fn run_report(args: &ReportArgs) -> Result<ExitCode, Failure> {
+    let robot = load_robot(args.robot.as_deref())?;
+    let ik = Density { grid: usize::from(args.ik_grid) };
+    let fk = Density { grid: usize::from(args.fk_grid) };
+    let started = std::time::Instant::now();
+    let findings = crosscheck::run(&robot, args.robot.is_none(), ik, fk)?;
+    let text = report::tables(&findings);
+    let mut stdout = std::io::stdout().lock();
+    stdout
+        .write_all(text.as_bytes())
+        .and_then(|()| stdout.flush())
+        .map_err(|e| Failure(format!("cannot write stdout: {e}")))?;
+    if let Some(path) = &args.json {
+        report::write_json(&findings, path).map_err(Failure)?;
+    }
+    eprintln!("deltakin report: swept and checked in {:.1} s", started.elapsed().as_secs_f64());
+    Ok(if findings.breaches.is_empty() { ExitCode::SUCCESS } else { ExitCode::from(EXIT_GATE_FAILED) })
+}
+
+/// Runs the parsed command line.
+#[must_use]
+pub fn run(cli: &Cli) -> ExitCode {
+    let result = match &cli.command {
+        Command::Ik(args) => run_batch(args, Direction::Inverse),
+        Command::Fk(args) => run_batch(args, Direction::Forward),
+        Command::Report(args) => run_report(args),
+    };
+    result.unwrap_or_else(|Failure(message)| {
+        eprintln!("deltakin: {message}");
+        ExitCode::from(EXIT_USAGE)
+    })
+}
+
+/// Parses the process arguments and runs them. Usage errors print clap's
+/// message and exit with status 2; `--help` and `--version` exit 0.
+#[must_use]
+pub fn main() -> ExitCode {
+    run(&Cli::parse())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use clap::CommandFactory;
+
+    #[test]
+    fn clap_definition_is_consistent() {
+        Cli::command().debug_assert();
+    }
+
+    #[test]
+    fn header_mismatch_and_missing_header_fail() {
+        let robot = RobotFile::demo().robot::<f64>().unwrap();
+        assert!(solve_batch(&robot, Direction::Inverse, b"").is_err());
+        assert!(solve_batch(&robot, Direction::Inverse, b"x,y,z\n1,2,3\n").is_err());
+        assert!(solve_batch(&robot, Direction::Forward, b"x_mm,y_mm,z_mm\n").is_err());
+        let ok = solve_batch(&robot, Direction::Forward, b"theta0_deg,theta1_deg,theta2_deg\n").unwrap();
+        assert_eq!(ok, b"x_mm,y_mm,z_mm,status\n");
+    }
+
+    #[test]
+    fn f32_prints_shortest_round_trip_of_the_f32_value() {
+        let v = f64::from(0.1f32);
+        assert_eq!(<f32 as CliScalar>::print(v), "0.1");
+        assert_eq!(<f64 as CliScalar>::print(v), "0.10000000149011612");
+    }
+}

@@ -1,0 +1,234 @@
+//! The `deltakin` binary, run as a user runs it: CSV through stdin and
+//! stdout, exit statuses, messages on stderr.
+
+use std::io::Write;
+use std::path::PathBuf;
+use std::process::{Command, Output, Stdio};
+
+use deltakin_harness::bounds;
+use deltakin_harness::config::{DEMO_ROBOT_TOML, RobotFile};
+
+const IK_HEADER: &str = "theta0_deg,theta1_deg,theta2_deg,status";
+const FK_HEADER: &str = "x_mm,y_mm,z_mm,status";
+const POSITION_IN: &str = "x_mm,y_mm,z_mm";
+const JOINT_IN: &str = "theta0_deg,theta1_deg,theta2_deg";
+
+/// Exit status for usage and configuration problems (documented in `deltakin --help`).
+const EXIT_USAGE: i32 = 2;
+
+fn run(args: &[&str], stdin: &str) -> Output {
+    let mut child = Command::new(env!("CARGO_BIN_EXE_deltakin"))
+        .args(args)
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("start deltakin");
+    child.stdin.take().expect("stdin").write_all(stdin.as_bytes()).expect("write stdin");
+    child.wait_with_output().expect("deltakin output")
+}
+
+fn stdout_lines(out: &Output) -> Vec<String> {
+    String::from_utf8(out.stdout.clone()).expect("utf-8 stdout").lines().map(str::to_owned).collect()
+}
+
+/// A row of output: three optional numbers and the status.
+fn parse_out_row(line: &str) -> (Option<[f64; 3]>, String) {
+    let f: Vec<&str> = line.split(',').collect();
+    assert_eq!(f.len(), 4, "{line}");
+    let nums = if f[3] == "ok" {
+        Some([f[0], f[1], f[2]].map(|v| v.parse::<f64>().expect("number")))
+    } else {
+        assert!(f[..3].iter().all(|v| v.is_empty()), "error row with numbers: {line}");
+        None
+    };
+    (nums, f[3].to_owned())
+}
+
+fn temp_file(name: &str, text: &str) -> PathBuf {
+    let path = PathBuf::from(env!("CARGO_TARGET_TMPDIR")).join(name);
+    std::fs::write(&path, text).expect("write temp file");
+    path
+}
+
+/// A grid of targets around the demo robot's workspace centre; most lie
+/// inside the guards, some outside.
+fn demo_targets() -> Vec<[f64; 3]> {
+    let mut v = Vec::new();
+    for x in [-300.0, -150.0, 0.0, 150.0, 300.0] {
+        for y in [-300.0, -150.0, 0.0, 150.0, 300.0] {
+            for z in [-600.0, -700.0, -800.0, -900.0] {
+                v.push([x, y, z]);
+            }
+        }
+    }
+    v
+}
+
+fn csv_of(header: &str, rows: &[[f64; 3]]) -> String {
+    let mut s = format!("{header}\n");
+    for r in rows {
+        s.push_str(&format!("{},{},{}\n", r[0], r[1], r[2]));
+    }
+    s
+}
+
+#[test]
+fn ik_then_fk_returns_the_targets() {
+    let targets = demo_targets();
+    // Per scalar: the FK position bound from bounds.rs. The f32 round trip
+    // also carries the IK error times the arm's lever (about 1e3 mm/rad)
+    // and the f32 rounding of the printed degrees; on the demo robot the
+    // report measures the IK error below 1e-6 rad, so the sum stays below
+    // the FK bound (about 1e-3 mm of 2e-3).
+    for (scalar, bound_mm) in [("f64", bounds::F64_POS_ERR_MM), ("f32", bounds::F32_POS_ERR_MM)] {
+        let ik = run(&["ik", "--scalar", scalar], &csv_of(POSITION_IN, &targets));
+        assert!(ik.status.success(), "{}", String::from_utf8_lossy(&ik.stderr));
+        let lines = stdout_lines(&ik);
+        assert_eq!(lines.len(), targets.len() + 1);
+        let solved: Vec<([f64; 3], [f64; 3])> =
+            targets.iter().zip(&lines[1..]).filter_map(|(p, line)| parse_out_row(line).0.map(|t| (*p, t))).collect();
+        assert!(solved.len() * 2 > targets.len(), "{scalar}: only {} of {} solved", solved.len(), targets.len());
+        let joints: Vec<[f64; 3]> = solved.iter().map(|s| s.1).collect();
+        let fk = run(&["fk", "--scalar", scalar], &csv_of(JOINT_IN, &joints));
+        assert!(fk.status.success());
+        let back = stdout_lines(&fk);
+        assert_eq!(back[0], FK_HEADER);
+        for ((p, _), line) in solved.iter().zip(&back[1..]) {
+            let (q, status) = parse_out_row(line);
+            assert_eq!(status, "ok", "{scalar}: {p:?} -> {line}");
+            let q = q.expect("position");
+            let err = ((q[0] - p[0]).powi(2) + (q[1] - p[1]).powi(2) + (q[2] - p[2]).powi(2)).sqrt();
+            assert!(err <= bound_mm, "{scalar}: {p:?} came back as {q:?} ({err} mm)");
+        }
+    }
+}
+
+#[test]
+fn headers_are_exact_and_row_order_is_kept() {
+    let robot = RobotFile::demo().robot::<f64>().expect("demo robot");
+    // Interleave solvable and failing rows so a reordering would show.
+    let targets = [[0.0, 0.0, -700.0], [0.0, 0.0, -5000.0], [120.0, -80.0, -650.0], [-200.0, 10.0, -820.0]];
+    let out = run(&["ik"], &csv_of(POSITION_IN, &targets));
+    let lines = stdout_lines(&out);
+    assert_eq!(lines[0], IK_HEADER);
+    assert_eq!(lines.len(), targets.len() + 1);
+    for (p, line) in targets.iter().zip(&lines[1..]) {
+        let (angles, status) = parse_out_row(line);
+        match robot.inverse(*p) {
+            Ok(s) => {
+                assert_eq!(status, "ok");
+                // The printed value reads back to exactly the f64 degrees.
+                assert_eq!(angles, Some(s.joints.map(f64::to_degrees)), "{p:?}");
+            }
+            Err(e) => assert_eq!(status, e.status_word(), "{p:?}"),
+        }
+    }
+    let fk = run(&["fk"], &format!("{JOINT_IN}\n10,20,30\n"));
+    assert_eq!(stdout_lines(&fk)[0], FK_HEADER);
+}
+
+#[test]
+fn malformed_rows_are_bad_rows_and_the_batch_goes_on() {
+    let input = format!("{POSITION_IN}\n0,0,-700\n1,2\nabc,0,-700\n1,2,3,4\n0,0,-700\n");
+    let out = run(&["ik"], &input);
+    assert!(out.status.success());
+    let status: Vec<String> = stdout_lines(&out)[1..].iter().map(|l| parse_out_row(l).1).collect();
+    assert_eq!(status, ["ok", "bad_row", "bad_row", "bad_row", "ok"]);
+}
+
+#[test]
+fn non_finite_and_unreachable_rows_name_their_error() {
+    for scalar in ["f64", "f32"] {
+        // 1e39 overflows f32 and becomes infinite there; in f64 it is finite
+        // and simply out of reach.
+        let input = format!("{POSITION_IN}\nnan,0,-700\n0,inf,-700\n0,0,-5000\n1e39,0,-700\n");
+        let out = run(&["ik", "--scalar", scalar], &input);
+        let status: Vec<String> = stdout_lines(&out)[1..].iter().map(|l| parse_out_row(l).1).collect();
+        let big = if scalar == "f32" { "non_finite" } else { "unreachable" };
+        assert_eq!(status, ["non_finite", "non_finite", "unreachable", big], "{scalar}");
+        let out = run(&["fk", "--scalar", scalar], &format!("{JOINT_IN}\n10,NaN,10\n"));
+        assert_eq!(parse_out_row(&stdout_lines(&out)[1]).1, "non_finite");
+    }
+}
+
+#[test]
+fn whole_command_failures_exit_with_a_message() {
+    let unknown_key = temp_file("unknown_key.toml", &format!("{DEMO_ROBOT_TOML}\nwrist_mm = 3.0\n"));
+    let invalid = temp_file("invalid.toml", &DEMO_ROBOT_TOML.replace("upper_arm_mm = 280.0", "upper_arm_mm = 900.0"));
+    let missing = PathBuf::from(env!("CARGO_TARGET_TMPDIR")).join("no_such_robot.toml");
+    let cases: [(Vec<&str>, &str, &str); 5] = [
+        (vec!["ik", "--robot", unknown_key.to_str().unwrap()], POSITION_IN, "wrist_mm"),
+        (vec!["fk", "--robot", invalid.to_str().unwrap()], JOINT_IN, "geometry"),
+        (vec!["report", "--robot", missing.to_str().unwrap()], "", "no_such_robot.toml"),
+        (vec!["ik"], "x,y,z\n1,2,3\n", "header"),
+        (vec!["fk"], "", "header"),
+    ];
+    for (args, stdin, mention) in cases {
+        let out = run(&args, stdin);
+        assert_eq!(out.status.code(), Some(EXIT_USAGE), "{args:?}");
+        assert!(out.stdout.is_empty(), "{args:?}");
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert!(err.contains(mention), "{args:?}: {err}");
+        // One message (a TOML error may add a quoted excerpt on later lines).
+        assert!(err.starts_with("deltakin: ") && err.matches("deltakin: ").count() == 1, "{err}");
+    }
+}
+
+#[test]
+fn help_works_on_every_command() {
+    for args in [&["--help"][..], &["ik", "--help"], &["fk", "--help"], &["report", "--help"], &["help", "report"]] {
+        let out = run(args, "");
+        assert!(out.status.success(), "{args:?}");
+        let text = String::from_utf8_lossy(&out.stdout);
+        assert!(text.contains("Usage: deltakin"), "{args:?}: {text}");
+    }
+    let ik = String::from_utf8(run(&["ik", "--help"], "").stdout).unwrap();
+    assert!(ik.contains(POSITION_IN) && ik.contains(IK_HEADER) && ik.contains("bad_row"));
+}
+
+#[test]
+fn report_on_a_small_robot_passes_and_prints_its_tables() {
+    // An invented small robot, distinct from the demo.
+    let robot = temp_file(
+        "small_robot.toml",
+        "name = \"bench-top-sorter\"\n\
+         [geometry]\nbase_radius_mm = 90.0\nplatform_radius_mm = 25.0\nupper_arm_mm = 150.0\nlower_arm_mm = 380.0\n\
+         [limits]\njoint_min_deg = -30.0\njoint_max_deg = [80.0, 82.0, 84.0]\npassive_cone_deg = 38.0\n\
+         min_serial_margin = 0.15\nmin_parallel_margin = 0.2\n",
+    );
+    let json = PathBuf::from(env!("CARGO_TARGET_TMPDIR")).join("small_robot_report.json");
+    let _ = std::fs::remove_file(&json);
+    let out = run(
+        &[
+            "report",
+            "--robot",
+            robot.to_str().unwrap(),
+            "--ik-grid",
+            "6",
+            "--fk-grid",
+            "10",
+            "--json",
+            json.to_str().unwrap(),
+        ],
+        "",
+    );
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert_eq!(out.status.code(), Some(0), "{text}\n{}", String::from_utf8_lossy(&out.stderr));
+    for heading in ["bench-top-sorter", "Robot", "Sweep", "Accuracy against", "Margins met", "Guarded status"] {
+        assert!(text.contains(heading), "missing {heading}:\n{text}");
+    }
+    assert!(text.contains("Result: PASS"));
+    let figures: serde_json::Value = serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap();
+    for sweep in ["ik", "fk"] {
+        let s = &figures[sweep];
+        assert!(s["accepted"].as_u64().unwrap() > 0, "{sweep}");
+        for scalar in s["scalars"].as_array().unwrap() {
+            let e = &scalar["error"];
+            assert_eq!(e["count"], s["accepted"]);
+            assert!(e["max"].as_f64().unwrap() <= scalar["bound"].as_f64().unwrap());
+            assert_eq!(scalar["reference_failed"], 0);
+        }
+    }
+    assert_eq!(figures["breaches"].as_array().map(Vec::len), Some(0));
+}
