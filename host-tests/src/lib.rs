@@ -3,4 +3,5 @@
 
 pub mod bounds;
 pub mod config;
+pub mod plan;
 pub mod reference;

@@ -423,6 +423,111 @@ mod tests {
         assert!(dense.fold(0.0_f64, f64::max) <= POLY7_PEAK_ACCEL);
     }
 
+    /// The closed-form duration, written out independently in f64.
+    fn closed_form_duration(law: Law, l: f64, v: f64, a: f64, j: f64) -> f64 {
+        match law {
+            Law::Trapezoid => {
+                if l >= v * v / a {
+                    l / v + v / a
+                } else {
+                    2.0 * (l / a).sqrt()
+                }
+            }
+            Law::SCurve => {
+                // Full speed: accel phase of a/j + v/a (or 2 sqrt(v/j)),
+                // total L/v + accel phase.
+                let ta = if v * j >= a * a { a / j + v / a } else { 2.0 * (v / j).sqrt() };
+                if l >= v * ta {
+                    l / v + ta
+                } else if l >= 2.0 * a * a * a / (j * j) {
+                    let tj = a / j;
+                    2.0 * (tj / 2.0 + (tj * tj / 4.0 + l / a).sqrt())
+                } else {
+                    4.0 * (l / (2.0 * j)).cbrt()
+                }
+            }
+            Law::Poly7 => (35.0 / 16.0 * l / v).max((POLY7_PEAK_ACCEL * l / a).sqrt()).max((52.5 * l / j).cbrt()),
+        }
+    }
+
+    /// (length, speed, accel, jerk) cases covering every branch: cruise,
+    /// acceleration-limited, jerk-limited, and a short triangle.
+    const CASES: [(f64, f64, f64, f64); 5] = [
+        (305.0, 2000.0, 30_000.0, 1.0e6),
+        (40.0, 2000.0, 30_000.0, 1.0e6),
+        (2.0, 2000.0, 30_000.0, 1.0e6),
+        (500.0, 800.0, 50_000.0, 2.0e5),
+        (1.2, 6.0, 60.0, 900.0),
+    ];
+    /// Samples per profile in the dense checks.
+    const SAMPLES: u32 = 20_000;
+
+    struct Tol {
+        /// Relative tolerance on limits and durations.
+        rel: f64,
+    }
+
+    fn check_profiles<S: Real>(tol: &Tol) {
+        let f = |v: f64| S::from_f64(v).unwrap();
+        for law in [Law::Trapezoid, Law::SCurve, Law::Poly7] {
+            for &(l, v, a, j) in &CASES {
+                let p = Profile::plan(law, f(l), Bounds { speed: f(v), accel: f(a), jerk: f(j) }).unwrap();
+                let t_total = p.duration().to_f64();
+                let expected = closed_form_duration(law, l, v, a, j);
+                assert!((t_total / expected - 1.0).abs() < tol.rel, "{law:?} {l}: {t_total} vs {expected}");
+                // Exact arrival and rest at both ends.
+                let end = p.sample(p.duration());
+                assert_eq!(end.pos.to_f64(), p.length().to_f64());
+                assert_eq!(end.vel.to_f64(), 0.0);
+                let start = p.sample(S::ZERO);
+                assert_eq!(start.pos.to_f64(), 0.0);
+                let dt = t_total / f64::from(SAMPLES);
+                let mut prev = start;
+                let (mut peak_v, mut peak_a) = (0.0_f64, 0.0_f64);
+                for i in 1..=SAMPLES {
+                    let g = p.sample(f(dt * f64::from(i)));
+                    let (pos, vel, acc) = (g.pos.to_f64(), g.vel.to_f64(), g.acc.to_f64());
+                    // Limits on every sample.
+                    assert!(vel >= 0.0 && vel <= v * (1.0 + tol.rel), "{law:?} {l}: v {vel}");
+                    assert!(acc.abs() <= a * (1.0 + tol.rel), "{law:?} {l}: a {acc}");
+                    assert!(pos >= 0.0 && pos <= l * (1.0 + tol.rel));
+                    // Continuity: no jump larger than the next derivative's bound allows.
+                    let (dp, dv, da) = (
+                        pos - prev.pos.to_f64(),
+                        vel - prev.vel.to_f64(),
+                        acc - prev.acc.to_f64(),
+                    );
+                    let slack = tol.rel * l;
+                    assert!(dp >= -slack && dp <= v * dt * (1.0 + tol.rel) + slack, "{law:?} {l}: dp {dp} at {i}");
+                    assert!(dv.abs() <= a * dt * (1.0 + tol.rel) + tol.rel * v, "{law:?} {l}: dv {dv} at {i}");
+                    if law != Law::Trapezoid {
+                        assert!(da.abs() <= j * dt * (1.0 + tol.rel) + tol.rel * a, "{law:?} {l}: da {da} at {i}");
+                    }
+                    // The velocity is the derivative of the position.
+                    let mean_v = 0.5 * (vel + prev.vel.to_f64());
+                    assert!((dp / dt - mean_v).abs() <= 0.5 * a * dt + 8.0 * tol.rel * l / dt, "{law:?} {l}: {i}");
+                    peak_v = peak_v.max(vel);
+                    peak_a = peak_a.max(acc.abs());
+                    prev = g;
+                }
+                // Each law uses at least one bound fully (the duration is the
+                // shortest the law allows), up to the sampling.
+                let used = (peak_v / v).max(peak_a / a);
+                assert!(used > 0.97 || law != Law::Trapezoid, "{law:?} {l}: peak use {used}");
+            }
+        }
+    }
+
+    #[test]
+    fn profiles_in_f64_keep_limits_continuity_duration_and_arrival() {
+        check_profiles::<f64>(&Tol { rel: 1e-9 });
+    }
+
+    #[test]
+    fn profiles_in_f32_keep_limits_continuity_duration_and_arrival() {
+        check_profiles::<f32>(&Tol { rel: 2e-5 });
+    }
+
     #[test]
     fn bad_bounds_are_refused() {
         let b = Bounds { speed: 1.0, accel: 1.0, jerk: 1.0 };
