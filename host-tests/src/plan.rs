@@ -394,7 +394,11 @@ fn conv3<S: Real>(v: [f64; 3], what: &'static str) -> Result<[S; 3], PlanError> 
 /// A move converted from f64 to `S`.
 fn move_in<S: Real>(m: &Move<f64>) -> Result<Move<S>, PlanError> {
     let b = |b: &Bounds<f64>| -> Result<Bounds<S>, PlanError> {
-        Ok(Bounds { speed: conv(b.speed, "a speed")?, accel: conv(b.accel, "an acceleration")?, jerk: conv(b.jerk, "a jerk")? })
+        Ok(Bounds {
+            speed: conv(b.speed, "a speed")?,
+            accel: conv(b.accel, "an acceleration")?,
+            jerk: conv(b.jerk, "a jerk")?,
+        })
     };
     Ok(match m {
         Move::Line { to, law, bounds } => Move::Line { to: conv3(*to, "a target")?, law: *law, bounds: b(bounds)? },
@@ -406,7 +410,9 @@ fn move_in<S: Real>(m: &Move<f64>) -> Result<Move<S>, PlanError> {
             bounds: b(bounds)?,
         },
         Move::Dwell { duration } => Move::Dwell { duration: conv(*duration, "a dwell time")? },
-        Move::Joint { to, law, bounds } => Move::Joint { to: conv3(*to, "a joint target")?, law: *law, bounds: b(bounds)? },
+        Move::Joint { to, law, bounds } => {
+            Move::Joint { to: conv3(*to, "a joint target")?, law: *law, bounds: b(bounds)? }
+        }
     })
 }
 
@@ -450,7 +456,10 @@ pub fn run_with<S: Real>(
     let period: S = conv(1.0 / rate_hz, "the cycle period").map_err(|_| PlanError::Rate(rate_hz))?;
     let period_f64 = period.to_f64();
     let (speed, accel) = moves.joint_rate_limits_f64();
-    let limits = JointRateLimits { speed: conv3(speed, "a joint speed limit")?, accel: conv3(accel, "a joint acceleration limit")? };
+    let limits = JointRateLimits {
+        speed: conv3(speed, "a joint speed limit")?,
+        accel: conv3(accel, "a joint acceleration limit")?,
+    };
     let start = conv3::<S>(moves.start_mm, "the start position")?;
     let list = moves.moves_f64()?.iter().map(move_in::<S>).collect::<Result<Vec<_>, _>>()?;
     let mut stream: Stream<S, QUEUE_CAPACITY> = Stream::new(robot, period, limits, start).map_err(PlanError::Start)?;
@@ -582,9 +591,8 @@ mod tests {
 
     #[test]
     fn an_unreachable_move_names_its_index_and_time() {
-        let text = format!(
-            "{DEMO_MOVES_TOML}\n[[move]]\nkind = \"line\"\nto_mm = [0.0, 0.0, -1300.0]\nspeed_mm_s = 500.0\n"
-        );
+        let text =
+            format!("{DEMO_MOVES_TOML}\n[[move]]\nkind = \"line\"\nto_mm = [0.0, 0.0, -1300.0]\nspeed_mm_s = 500.0\n");
         let moves = MovesFile::parse(&text).unwrap();
         let count = moves.moves.len();
         let mut out = Vec::new();

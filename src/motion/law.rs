@@ -492,11 +492,7 @@ mod tests {
                     assert!(acc.abs() <= a * (1.0 + tol.rel), "{law:?} {l}: a {acc}");
                     assert!(pos >= 0.0 && pos <= l * (1.0 + tol.rel));
                     // Continuity: no jump larger than the next derivative's bound allows.
-                    let (dp, dv, da) = (
-                        pos - prev.pos.to_f64(),
-                        vel - prev.vel.to_f64(),
-                        acc - prev.acc.to_f64(),
-                    );
+                    let (dp, dv, da) = (pos - prev.pos.to_f64(), vel - prev.vel.to_f64(), acc - prev.acc.to_f64());
                     let slack = tol.rel * l;
                     assert!(dp >= -slack && dp <= v * dt * (1.0 + tol.rel) + slack, "{law:?} {l}: dp {dp} at {i}");
                     assert!(dv.abs() <= a * dt * (1.0 + tol.rel) + tol.rel * v, "{law:?} {l}: dv {dv} at {i}");
