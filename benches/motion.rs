@@ -51,5 +51,18 @@ fn setpoints(c: &mut Criterion) {
     });
 }
 
-criterion_group!(benches, setpoints);
+/// The guarded inverse kinematics alone, for comparison: the share of a
+/// setpoint that is not the motion layer's.
+fn guarded_inverse(c: &mut Criterion) {
+    let robot = demo_robot();
+    let mut x = -150.0f32;
+    c.bench_function("guarded inverse alone (f32)", |bench| {
+        bench.iter(|| {
+            x = if x > 150.0 { -150.0 } else { x + 0.37 };
+            black_box(robot.inverse(black_box([x, 60.0, -760.0])))
+        });
+    });
+}
+
+criterion_group!(benches, setpoints, guarded_inverse);
 criterion_main!(benches);

@@ -112,3 +112,55 @@ impl<S: Real> Path<S> {
         }
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::motion::law::{Bounds, Law};
+    use crate::motion::moves::{Move, shape};
+
+    /// Position and tangent gaps allowed across a break point (mm, unit).
+    const JOIN_MM: f64 = 1e-9;
+    const JOIN_TANGENT: f64 = 1e-9;
+    /// Step either side of a break point (mm of arc length).
+    const EPS_S: f64 = 1e-10;
+
+    #[test]
+    fn pick_cycle_is_continuous_with_a_unit_tangent_and_hits_its_ends() {
+        let from: [f64; 3] = [-152.5, 60.0, -760.0];
+        let to = [152.5, 20.0, -740.0];
+        let bounds = Bounds { speed: 1.0, accel: 1.0, jerk: 1.0 };
+        let mv = Move::Pick { to, lift: 25.0, blend_radius: 10.0, law: Law::SCurve, bounds };
+        let Path::Pick(p) = shape(&mv, from, [0.0; 3]).unwrap().path else {
+            unreachable!("a pick move shapes a pick path")
+        };
+        assert_eq!(p.at(0.0).point, from);
+        assert_eq!(p.at(p.length).point, to);
+        // Top of the traverse: 25 mm above the higher end.
+        assert!((p.at(0.5 * (p.b[1] + p.b[2])).point[2] - (-715.0)).abs() < JOIN_MM);
+        for b in p.b {
+            let (l, r) = (p.at(b - EPS_S), p.at(b + EPS_S));
+            for i in 0..3 {
+                assert!((l.point[i] - r.point[i]).abs() < JOIN_MM, "point at {b}");
+                assert!((l.tangent[i] - r.tangent[i]).abs() < JOIN_TANGENT, "tangent at {b}");
+            }
+        }
+        for i in 0..=1000 {
+            let t = p.at(p.length * f64::from(i) / 1000.0).tangent;
+            let n = (t[0] * t[0] + t[1] * t[1] + t[2] * t[2]).sqrt();
+            assert!((n - 1.0).abs() < JOIN_TANGENT);
+        }
+    }
+
+    #[test]
+    fn a_blend_that_does_not_fit_is_refused() {
+        let bounds = Bounds { speed: 1.0, accel: 1.0, jerk: 1.0 };
+        let from: [f64; 3] = [0.0, 0.0, -700.0];
+        for (to, lift, r) in
+            [([10.0, 0.0, -700.0], 25.0, 10.0), ([300.0, 0.0, -700.0], 5.0, 10.0), ([0.0; 3], 5.0, 1.0)]
+        {
+            let mv = Move::Pick { to, lift, blend_radius: r, law: Law::Trapezoid, bounds };
+            assert!(shape(&mv, from, [0.0; 3]).is_err());
+        }
+    }
+}
