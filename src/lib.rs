@@ -16,6 +16,7 @@ pub mod forward;
 mod guard;
 pub mod inverse;
 pub mod jacobian;
+pub mod motion;
 mod robot;
 pub mod scalar;
 mod solution;

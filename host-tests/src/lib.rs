@@ -5,6 +5,7 @@ pub mod bounds;
 pub mod cli;
 pub mod config;
 pub mod crosscheck;
+pub mod plan;
 pub mod reference;
 pub mod report;
 pub mod stats;

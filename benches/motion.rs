@@ -1,0 +1,68 @@
+//! Per-cycle cost of the setpoint stream in f32: time law, path, guarded
+//! inverse kinematics and Jacobian joint rates, on the demo robot running
+//! the 25 / 305 / 25 mm pick cycle (common practice) back and forth.
+
+use criterion::{Criterion, criterion_group, criterion_main};
+use deltakin::motion::{Bounds, JointRateLimits, Law, Move, PlannedMove, Stream};
+use deltakin::{Geometry, Limits, Robot};
+use std::hint::black_box;
+
+fn demo_robot() -> Robot<f32> {
+    let geometry = Geometry { base_radius: 160.0, platform_radius: 40.0, upper_arm: 280.0, lower_arm: 720.0 };
+    let limits = Limits::uniform(-35f32.to_radians(), 85f32.to_radians(), 40f32.to_radians(), 0.1, 0.1);
+    Robot::new(geometry, limits).expect("demo robot")
+}
+
+fn setpoints(c: &mut Criterion) {
+    let robot = demo_robot();
+    let limits = JointRateLimits { speed: [720f32.to_radians(); 3], accel: [15_000f32.to_radians(); 3] };
+    let (a, b) = ([-152.5f32, 60.0, -760.0], [152.5f32, 60.0, -760.0]);
+    let bounds = Bounds { speed: 2500.0, accel: 40_000.0, jerk: 2.0e6 };
+    let pick = |to| Move::Pick { to, lift: 25.0, blend_radius: 10.0, law: Law::SCurve, bounds };
+    let mut stream: Stream<f32, 4> = Stream::new(robot, 2.5e-4, limits, a).expect("stream");
+    let there: PlannedMove<f32> = stream.plan(&pick(b)).expect("a to b");
+    stream.push_planned(there).expect("queued");
+    let back = stream.plan(&pick(a)).expect("b to a");
+    stream.push_planned(back).expect("queued");
+    let mut legs = 0u32;
+    c.bench_function("stream setpoint (pick cycle, s-curve, f32)", |bench| {
+        bench.iter(|| {
+            let step = stream.next_setpoint().expect("validated");
+            if let Some(s) = step
+                && s.setpoint.end_of_move
+            {
+                legs += 1;
+                let next = if legs % 2 == 1 { there } else { back };
+                stream.push_planned(next).expect("queued again");
+            }
+            black_box(step)
+        });
+    });
+    let line = {
+        let s: Stream<f32, 1> = Stream::new(robot, 2.5e-4, limits, a).expect("stream");
+        s.plan(&Move::Line { to: b, law: Law::Trapezoid, bounds }).expect("line")
+    };
+    let mut k = 0u32;
+    c.bench_function("setpoint_at (line, trapezoid, f32)", |bench| {
+        bench.iter(|| {
+            k = if k >= line.cycles() { 1 } else { k + 1 };
+            black_box(line.setpoint_at(&robot, black_box(k)))
+        });
+    });
+}
+
+/// The guarded inverse kinematics alone, for comparison: the share of a
+/// setpoint that is not the motion layer's.
+fn guarded_inverse(c: &mut Criterion) {
+    let robot = demo_robot();
+    let mut x = -150.0f32;
+    c.bench_function("guarded inverse alone (f32)", |bench| {
+        bench.iter(|| {
+            x = if x > 150.0 { -150.0 } else { x + 0.37 };
+            black_box(robot.inverse(black_box([x, 60.0, -760.0])))
+        });
+    });
+}
+
+criterion_group!(benches, setpoints, guarded_inverse);
+criterion_main!(benches);

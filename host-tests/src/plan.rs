@@ -1,0 +1,608 @@
+//! `deltakin plan`: run a moves file through the motion stream and write
+//! one CSV row per control cycle.
+//!
+//! # The moves file
+//! TOML, units in the key names, unknown keys refused. The moves run in
+//! order; each starts where the previous one ends.
+//!
+//! ```toml
+//! start_mm = [0.0, 0.0, -700.0]      # where the platform rests first
+//!
+//! [joint_limits]                     # checked on every cycle
+//! speed_deg_s = 720.0                # or a list of three, one per arm
+//! accel_deg_s2 = 15000.0
+//!
+//! [cartesian]                        # defaults for line and pick moves
+//! law = "s_curve"                    # "trapezoid", "s_curve" or "poly7"
+//! speed_mm_s = 2500.0
+//! accel_mm_s2 = 40000.0
+//! jerk_mm_s3 = 2.0e6
+//!
+//! [joint]                            # defaults for joint moves
+//! law = "trapezoid"
+//! speed_deg_s = 180.0
+//! accel_deg_s2 = 1500.0
+//! jerk_deg_s3 = 30000.0
+//!
+//! [[move]]
+//! kind = "line"                      # straight line
+//! to_mm = [-152.5, 60.0, -760.0]
+//! speed_mm_s = 500.0                 # any default may be overridden
+//!
+//! [[move]]
+//! kind = "pick"                      # rise, traverse, descend
+//! to_mm = [152.5, 60.0, -760.0]
+//! lift_mm = 25.0                     # traverse height above the higher end
+//! blend_radius_mm = 10.0             # corner arcs
+//!
+//! [[move]]
+//! kind = "dwell"
+//! duration_s = 0.05
+//!
+//! [[move]]
+//! kind = "joint"                     # joint-space straight line
+//! to_deg = [20.0, 20.0, 20.0]
+//! ```
+//!
+//! The `[cartesian]` and `[joint]` sections may be left out when every
+//! move of that kind gives its own law and bounds.
+//!
+//! # Output
+//! CSV with the header
+//! `t_s,x_mm,y_mm,z_mm,theta0_deg,theta1_deg,theta2_deg,omega0_deg_s,omega1_deg_s,omega2_deg_s`,
+//! a first row at `t = 0` (the start pose, at rest) and then one row per
+//! cycle. Numbers carry 9 significant digits for `f32` and 17 for `f64`,
+//! enough to round-trip. A [`Summary`] goes to the caller (the CLI prints
+//! it on stderr).
+
+use std::fmt;
+use std::io::Write;
+
+use deltakin::Real;
+use deltakin::motion::{Bounds, JointRateLimits, Law, MotionError, Move, Stream};
+use serde::Deserialize;
+
+use crate::config::{ConfigError, PerArm, RobotFile};
+
+/// Moves the stream's queue holds (the one running included).
+pub const QUEUE_CAPACITY: usize = 8;
+
+/// The number type the stream runs in.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[non_exhaustive]
+pub enum ScalarKind {
+    /// Single precision, the firmware path.
+    F32,
+    /// Double precision.
+    F64,
+}
+
+impl ScalarKind {
+    /// Significant digits that round-trip this type.
+    #[must_use]
+    pub const fn digits(self) -> usize {
+        match self {
+            ScalarKind::F32 => 9,
+            ScalarKind::F64 => 17,
+        }
+    }
+
+    /// The name used on the command line.
+    #[must_use]
+    pub const fn name(self) -> &'static str {
+        match self {
+            ScalarKind::F32 => "f32",
+            ScalarKind::F64 => "f64",
+        }
+    }
+}
+
+/// A time law by name.
+#[derive(Clone, Copy, Debug, Deserialize, PartialEq, Eq)]
+#[serde(rename_all = "snake_case")]
+pub enum LawName {
+    /// Trapezoidal velocity.
+    Trapezoid,
+    /// Seven-segment S-curve.
+    SCurve,
+    /// 4-5-6-7 polynomial.
+    Poly7,
+}
+
+impl From<LawName> for Law {
+    fn from(l: LawName) -> Self {
+        match l {
+            LawName::Trapezoid => Law::Trapezoid,
+            LawName::SCurve => Law::SCurve,
+            LawName::Poly7 => Law::Poly7,
+        }
+    }
+}
+
+/// `[joint_limits]`.
+#[derive(Clone, Copy, Debug, Deserialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+#[allow(missing_docs)]
+pub struct JointLimitsFile {
+    pub speed_deg_s: PerArm,
+    pub accel_deg_s2: PerArm,
+}
+
+/// `[cartesian]`: defaults for line and pick moves.
+#[derive(Clone, Copy, Debug, Default, Deserialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+#[allow(missing_docs)]
+pub struct CartesianDefaults {
+    pub law: Option<LawName>,
+    pub speed_mm_s: Option<f64>,
+    pub accel_mm_s2: Option<f64>,
+    pub jerk_mm_s3: Option<f64>,
+}
+
+/// `[joint]`: defaults for joint moves.
+#[derive(Clone, Copy, Debug, Default, Deserialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+#[allow(missing_docs)]
+pub struct JointDefaults {
+    pub law: Option<LawName>,
+    pub speed_deg_s: Option<f64>,
+    pub accel_deg_s2: Option<f64>,
+    pub jerk_deg_s3: Option<f64>,
+}
+
+/// One `[[move]]`.
+#[derive(Clone, Copy, Debug, Deserialize, PartialEq)]
+#[serde(tag = "kind", rename_all = "snake_case", deny_unknown_fields)]
+#[allow(missing_docs)]
+pub enum MoveEntry {
+    Line {
+        to_mm: [f64; 3],
+        law: Option<LawName>,
+        speed_mm_s: Option<f64>,
+        accel_mm_s2: Option<f64>,
+        jerk_mm_s3: Option<f64>,
+    },
+    Pick {
+        to_mm: [f64; 3],
+        lift_mm: f64,
+        blend_radius_mm: f64,
+        law: Option<LawName>,
+        speed_mm_s: Option<f64>,
+        accel_mm_s2: Option<f64>,
+        jerk_mm_s3: Option<f64>,
+    },
+    Dwell {
+        duration_s: f64,
+    },
+    Joint {
+        to_deg: [f64; 3],
+        law: Option<LawName>,
+        speed_deg_s: Option<f64>,
+        accel_deg_s2: Option<f64>,
+        jerk_deg_s3: Option<f64>,
+    },
+}
+
+/// A whole moves file.
+#[derive(Clone, Debug, Deserialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct MovesFile {
+    /// Where the platform rests before the first move (mm).
+    pub start_mm: [f64; 3],
+    /// Joint speed and acceleration limits.
+    pub joint_limits: JointLimitsFile,
+    /// Defaults for Cartesian moves.
+    #[serde(default)]
+    pub cartesian: CartesianDefaults,
+    /// Defaults for joint moves.
+    #[serde(default)]
+    pub joint: JointDefaults,
+    /// The moves, in order.
+    #[serde(rename = "move", default)]
+    pub moves: Vec<MoveEntry>,
+}
+
+/// Why a plan could not be run.
+#[derive(Debug)]
+#[non_exhaustive]
+pub enum PlanError {
+    /// The moves file is not valid TOML in the documented format, or a
+    /// move lacks a law or bound that has no default.
+    Parse(String),
+    /// The robot could not be built.
+    Robot(ConfigError),
+    /// The rate is not a positive finite number representable in the scalar.
+    Rate(f64),
+    /// A number of the moves file is not representable in the scalar.
+    Unrepresentable(&'static str),
+    /// The start pose or the limits were refused.
+    Start(MotionError),
+    /// Move `index` (0-based) was refused; `time_s` is the first offending
+    /// time within the move.
+    Move {
+        /// Index in the file, from 0.
+        index: usize,
+        /// The motion error (cycle, arm, limit).
+        error: MotionError,
+        /// `error.cycle` in seconds from the move's start.
+        time_s: f64,
+    },
+    /// The stream stopped while running (never for validated moves).
+    Stream(MotionError),
+    /// Writing the CSV failed.
+    Io(std::io::Error),
+}
+
+impl fmt::Display for PlanError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            PlanError::Parse(e) => write!(f, "invalid moves file: {e}"),
+            PlanError::Robot(e) => write!(f, "{e}"),
+            PlanError::Rate(r) => write!(f, "invalid rate {r} Hz"),
+            PlanError::Unrepresentable(what) => write!(f, "{what} is not representable in this number type"),
+            PlanError::Start(e) => write!(f, "cannot start: {e}"),
+            PlanError::Move { index, error, time_s } => {
+                write!(f, "move {index} refused at t = {time_s:.6} s into the move: {}", error.fault)
+            }
+            PlanError::Stream(e) => write!(f, "stream stopped: {e}"),
+            PlanError::Io(e) => write!(f, "cannot write output: {e}"),
+        }
+    }
+}
+
+impl std::error::Error for PlanError {}
+
+impl From<std::io::Error> for PlanError {
+    fn from(e: std::io::Error) -> Self {
+        PlanError::Io(e)
+    }
+}
+
+/// What a run did, for stderr.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Summary {
+    /// The number type used.
+    pub scalar: ScalarKind,
+    /// Control rate (Hz).
+    pub rate_hz: f64,
+    /// Moves run.
+    pub moves: usize,
+    /// Setpoints written (rows after the `t = 0` row).
+    pub setpoints: u64,
+    /// Motion time (s).
+    pub duration_s: f64,
+    /// Peak joint speed of each arm over the run (deg/s) and its limit.
+    pub peak_speed_deg_s: [f64; 3],
+    /// Joint speed limits (deg/s).
+    pub speed_limit_deg_s: [f64; 3],
+    /// Peak joint acceleration of each arm, from successive cycles
+    /// (deg/s^2), and its limit.
+    pub peak_accel_deg_s2: [f64; 3],
+    /// Joint acceleration limits (deg/s^2).
+    pub accel_limit_deg_s2: [f64; 3],
+    /// Moves that were slowed down: (index, time stretch).
+    pub time_scaled: Vec<(usize, f64)>,
+}
+
+impl fmt::Display for Summary {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        writeln!(
+            f,
+            "plan: {} moves, {} setpoints at {} Hz ({}), duration {:.4} s",
+            self.moves,
+            self.setpoints,
+            self.rate_hz,
+            self.scalar.name(),
+            self.duration_s
+        )?;
+        for arm in 0..3 {
+            writeln!(
+                f,
+                "  arm {arm}: peak speed {:8.1} of {:8.1} deg/s ({:5.1} %), peak accel {:9.0} of {:9.0} deg/s^2 ({:5.1} %)",
+                self.peak_speed_deg_s[arm],
+                self.speed_limit_deg_s[arm],
+                100.0 * self.peak_speed_deg_s[arm] / self.speed_limit_deg_s[arm],
+                self.peak_accel_deg_s2[arm],
+                self.accel_limit_deg_s2[arm],
+                100.0 * self.peak_accel_deg_s2[arm] / self.accel_limit_deg_s2[arm],
+            )?;
+        }
+        if self.time_scaled.is_empty() {
+            write!(f, "  time scaling: none (every move ran as asked)")
+        } else {
+            write!(f, "  time scaling applied to move")?;
+            for (i, (index, stretch)) in self.time_scaled.iter().enumerate() {
+                let sep = if i == 0 { " " } else { ", " };
+                write!(f, "{sep}{index} (x{stretch:.3} slower)")?;
+            }
+            Ok(())
+        }
+    }
+}
+
+impl MovesFile {
+    /// Parses moves-file text.
+    ///
+    /// # Errors
+    /// [`PlanError::Parse`] with the parser's message.
+    pub fn parse(text: &str) -> Result<Self, PlanError> {
+        toml::from_str(text).map_err(|e| PlanError::Parse(e.to_string()))
+    }
+
+    /// Joint rate limits in rad/s and rad/s^2 (f64).
+    #[must_use]
+    pub fn joint_rate_limits_f64(&self) -> ([f64; 3], [f64; 3]) {
+        (
+            self.joint_limits.speed_deg_s.values().map(f64::to_radians),
+            self.joint_limits.accel_deg_s2.values().map(f64::to_radians),
+        )
+    }
+
+    /// The moves in f64, mm and rad, with the defaults filled in.
+    ///
+    /// # Errors
+    /// [`PlanError::Parse`] naming a move that lacks a law or bound with no
+    /// default.
+    pub fn moves_f64(&self) -> Result<Vec<Move<f64>>, PlanError> {
+        let missing = |i: usize, what: &str| PlanError::Parse(format!("move {i}: no {what} and no default"));
+        let c = &self.cartesian;
+        let cart = |i: usize, law: Option<LawName>, v: Option<f64>, a: Option<f64>, j: Option<f64>| {
+            Ok::<_, PlanError>((
+                Law::from(law.or(c.law).ok_or_else(|| missing(i, "law"))?),
+                Bounds {
+                    speed: v.or(c.speed_mm_s).ok_or_else(|| missing(i, "speed_mm_s"))?,
+                    accel: a.or(c.accel_mm_s2).ok_or_else(|| missing(i, "accel_mm_s2"))?,
+                    jerk: j.or(c.jerk_mm_s3).ok_or_else(|| missing(i, "jerk_mm_s3"))?,
+                },
+            ))
+        };
+        let jd = &self.joint;
+        self.moves
+            .iter()
+            .enumerate()
+            .map(|(i, m)| match *m {
+                MoveEntry::Line { to_mm, law, speed_mm_s, accel_mm_s2, jerk_mm_s3 } => {
+                    let (law, bounds) = cart(i, law, speed_mm_s, accel_mm_s2, jerk_mm_s3)?;
+                    Ok(Move::Line { to: to_mm, law, bounds })
+                }
+                MoveEntry::Pick { to_mm, lift_mm, blend_radius_mm, law, speed_mm_s, accel_mm_s2, jerk_mm_s3 } => {
+                    let (law, bounds) = cart(i, law, speed_mm_s, accel_mm_s2, jerk_mm_s3)?;
+                    Ok(Move::Pick { to: to_mm, lift: lift_mm, blend_radius: blend_radius_mm, law, bounds })
+                }
+                MoveEntry::Dwell { duration_s } => Ok(Move::Dwell { duration: duration_s }),
+                MoveEntry::Joint { to_deg, law, speed_deg_s, accel_deg_s2, jerk_deg_s3 } => {
+                    let law = Law::from(law.or(jd.law).ok_or_else(|| missing(i, "law"))?);
+                    let v = speed_deg_s.or(jd.speed_deg_s).ok_or_else(|| missing(i, "speed_deg_s"))?;
+                    let a = accel_deg_s2.or(jd.accel_deg_s2).ok_or_else(|| missing(i, "accel_deg_s2"))?;
+                    let j = jerk_deg_s3.or(jd.jerk_deg_s3).ok_or_else(|| missing(i, "jerk_deg_s3"))?;
+                    let bounds = Bounds { speed: v.to_radians(), accel: a.to_radians(), jerk: j.to_radians() };
+                    Ok(Move::Joint { to: to_deg.map(f64::to_radians), law, bounds })
+                }
+            })
+            .collect()
+    }
+}
+
+fn conv<S: Real>(v: f64, what: &'static str) -> Result<S, PlanError> {
+    S::from_f64(v).ok_or(PlanError::Unrepresentable(what))
+}
+
+fn conv3<S: Real>(v: [f64; 3], what: &'static str) -> Result<[S; 3], PlanError> {
+    Ok([conv(v[0], what)?, conv(v[1], what)?, conv(v[2], what)?])
+}
+
+/// A move converted from f64 to `S`.
+fn move_in<S: Real>(m: &Move<f64>) -> Result<Move<S>, PlanError> {
+    let b = |b: &Bounds<f64>| -> Result<Bounds<S>, PlanError> {
+        Ok(Bounds {
+            speed: conv(b.speed, "a speed")?,
+            accel: conv(b.accel, "an acceleration")?,
+            jerk: conv(b.jerk, "a jerk")?,
+        })
+    };
+    Ok(match m {
+        Move::Line { to, law, bounds } => Move::Line { to: conv3(*to, "a target")?, law: *law, bounds: b(bounds)? },
+        Move::Pick { to, lift, blend_radius, law, bounds } => Move::Pick {
+            to: conv3(*to, "a target")?,
+            lift: conv(*lift, "a lift")?,
+            blend_radius: conv(*blend_radius, "a blend radius")?,
+            law: *law,
+            bounds: b(bounds)?,
+        },
+        Move::Dwell { duration } => Move::Dwell { duration: conv(*duration, "a dwell time")? },
+        Move::Joint { to, law, bounds } => {
+            Move::Joint { to: conv3(*to, "a joint target")?, law: *law, bounds: b(bounds)? }
+        }
+    })
+}
+
+/// Writes `v` with `digits` significant digits.
+fn num(out: &mut dyn Write, v: f64, digits: usize) -> std::io::Result<()> {
+    write!(out, "{:.*e}", digits.saturating_sub(1), v)
+}
+
+/// One CSV row: time, position (mm), joints (deg), joint rates (deg/s).
+fn row(out: &mut dyn Write, t: f64, p: [f64; 3], q: [f64; 3], w: [f64; 3], digits: usize) -> std::io::Result<()> {
+    num(out, t, digits)?;
+    for v in p.into_iter().chain(q.map(f64::to_degrees)).chain(w.map(f64::to_degrees)) {
+        out.write_all(b",")?;
+        num(out, v, digits)?;
+    }
+    out.write_all(b"\n")
+}
+
+/// The CSV header.
+pub const CSV_HEADER: &str =
+    "t_s,x_mm,y_mm,z_mm,theta0_deg,theta1_deg,theta2_deg,omega0_deg_s,omega1_deg_s,omega2_deg_s";
+
+/// Runs `moves` on `robot_file` at `rate_hz` in number type `S`, writing
+/// CSV with `digits` significant digits to `out`.
+///
+/// # Errors
+/// See [`PlanError`]: a move refused (with its index and the first
+/// offending time within it), the robot, the rate, or the output.
+pub fn run_with<S: Real>(
+    robot_file: &RobotFile,
+    moves: &MovesFile,
+    rate_hz: f64,
+    scalar: ScalarKind,
+    out: &mut dyn Write,
+) -> Result<Summary, PlanError> {
+    if !(rate_hz.is_finite() && rate_hz > 0.0) {
+        return Err(PlanError::Rate(rate_hz));
+    }
+    let digits = scalar.digits();
+    let robot = robot_file.robot::<S>().map_err(PlanError::Robot)?;
+    let period: S = conv(1.0 / rate_hz, "the cycle period").map_err(|_| PlanError::Rate(rate_hz))?;
+    let period_f64 = period.to_f64();
+    let (speed, accel) = moves.joint_rate_limits_f64();
+    let limits = JointRateLimits {
+        speed: conv3(speed, "a joint speed limit")?,
+        accel: conv3(accel, "a joint acceleration limit")?,
+    };
+    let start = conv3::<S>(moves.start_mm, "the start position")?;
+    let list = moves.moves_f64()?.iter().map(move_in::<S>).collect::<Result<Vec<_>, _>>()?;
+    let mut stream: Stream<S, QUEUE_CAPACITY> = Stream::new(robot, period, limits, start).map_err(PlanError::Start)?;
+    let at_start = robot.inverse(start).map_err(|e| PlanError::Start(MotionError::before_sampling(e.into())))?;
+
+    writeln!(out, "{CSV_HEADER}")?;
+    row(out, 0.0, start.map(S::to_f64), at_start.joints.map(S::to_f64), [0.0; 3], digits)?;
+    let mut summary = Summary {
+        scalar,
+        rate_hz,
+        moves: list.len(),
+        setpoints: 0,
+        duration_s: 0.0,
+        peak_speed_deg_s: [0.0; 3],
+        speed_limit_deg_s: speed.map(f64::to_degrees),
+        peak_accel_deg_s2: [0.0; 3],
+        accel_limit_deg_s2: accel.map(f64::to_degrees),
+        time_scaled: Vec::new(),
+    };
+    let mut next = 0usize;
+    let mut prev_rates = [0.0; 3];
+    loop {
+        while let Some(m) = list.get(next).filter(|_| !stream.is_full()) {
+            let accepted = stream.push(m).map_err(|error| PlanError::Move {
+                index: next,
+                error,
+                time_s: f64::from(error.cycle) * period_f64,
+            })?;
+            if accepted.time_scaled {
+                summary.time_scaled.push((next, accepted.stretch.to_f64()));
+            }
+            next += 1;
+        }
+        let Some(step) = stream.next_setpoint().map_err(PlanError::Stream)? else { break };
+        summary.setpoints += 1;
+        #[allow(clippy::cast_precision_loss)] // counts far below 2^53
+        let t = summary.setpoints as f64 * period_f64;
+        let sp = step.setpoint;
+        let rates = sp.joint_rates.map(S::to_f64);
+        row(out, t, sp.position.map(S::to_f64), sp.joints.map(S::to_f64), rates, digits)?;
+        for arm in 0..3 {
+            let w = rates[arm].to_degrees();
+            let a = (rates[arm] - prev_rates[arm]).to_degrees() / period_f64;
+            summary.peak_speed_deg_s[arm] = summary.peak_speed_deg_s[arm].max(w.abs());
+            summary.peak_accel_deg_s2[arm] = summary.peak_accel_deg_s2[arm].max(a.abs());
+        }
+        prev_rates = rates;
+        summary.duration_s = t;
+    }
+    Ok(summary)
+}
+
+/// Parses `moves_toml` and runs it (see [`run_with`]). The entry point of
+/// `deltakin plan`.
+///
+/// # Errors
+/// See [`PlanError`].
+pub fn run(
+    robot_file: &RobotFile,
+    moves_toml: &str,
+    rate_hz: f64,
+    scalar: ScalarKind,
+    out: &mut dyn Write,
+) -> Result<Summary, PlanError> {
+    let moves = MovesFile::parse(moves_toml)?;
+    match scalar {
+        ScalarKind::F32 => run_with::<f32>(robot_file, &moves, rate_hz, scalar, out),
+        ScalarKind::F64 => run_with::<f64>(robot_file, &moves, rate_hz, scalar, out),
+    }
+}
+
+/// The demo moves file (same text as `examples/demo_moves.toml`).
+pub const DEMO_MOVES_TOML: &str = include_str!("../../examples/demo_moves.toml");
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Rate for the tests (Hz), common practice for servo loops.
+    const RATE_HZ: f64 = 2000.0;
+
+    fn run_demo(scalar: ScalarKind) -> (Summary, String) {
+        let mut out = Vec::new();
+        let summary = run(&RobotFile::demo(), DEMO_MOVES_TOML, RATE_HZ, scalar, &mut out).unwrap();
+        (summary, String::from_utf8(out).unwrap())
+    }
+
+    #[test]
+    fn demo_moves_run_in_both_precisions_within_limits() {
+        for scalar in [ScalarKind::F32, ScalarKind::F64] {
+            let (s, csv) = run_demo(scalar);
+            let lines: Vec<&str> = csv.lines().collect();
+            assert_eq!(lines[0], CSV_HEADER);
+            assert_eq!(lines.len() as u64, s.setpoints + 2);
+            for arm in 0..3 {
+                assert!(s.peak_speed_deg_s[arm] <= s.speed_limit_deg_s[arm]);
+                assert!(s.peak_accel_deg_s2[arm] <= s.accel_limit_deg_s2[arm]);
+            }
+            // Every row has ten numbers with the round-trip digit count.
+            for line in &lines[1..] {
+                let fields: Vec<&str> = line.split(',').collect();
+                assert_eq!(fields.len(), 10);
+                let mantissa = fields[1].split('e').next().unwrap().trim_start_matches('-');
+                assert_eq!(mantissa.len(), scalar.digits() + 1, "{line}");
+            }
+            assert!(!format!("{s}").is_empty());
+        }
+    }
+
+    #[test]
+    fn csv_rows_round_trip_f32_values() {
+        let (_, csv) = run_demo(ScalarKind::F32);
+        let row = csv.lines().nth(100).unwrap();
+        let x: f64 = row.split(',').nth(1).unwrap().parse().unwrap();
+        // Parsing the 9-digit text back to f32 gives an f32 that prints the same.
+        let back = x as f32;
+        assert_eq!(format!("{:.8e}", f64::from(back)), row.split(',').nth(1).unwrap());
+    }
+
+    #[test]
+    fn unknown_keys_and_missing_bounds_are_refused() {
+        let text = DEMO_MOVES_TOML.replace("lift_mm", "lift_mm = 25.0\nhop_mm");
+        assert!(matches!(MovesFile::parse(&text), Err(PlanError::Parse(_))));
+        let text = "start_mm = [0.0, 0.0, -700.0]\n[joint_limits]\nspeed_deg_s = 720.0\naccel_deg_s2 = 1.0e4\n\
+                    [[move]]\nkind = \"line\"\nto_mm = [0.0, 0.0, -650.0]\n";
+        let file = MovesFile::parse(text).unwrap();
+        assert!(matches!(file.moves_f64(), Err(PlanError::Parse(_))));
+    }
+
+    #[test]
+    fn an_unreachable_move_names_its_index_and_time() {
+        let text =
+            format!("{DEMO_MOVES_TOML}\n[[move]]\nkind = \"line\"\nto_mm = [0.0, 0.0, -1300.0]\nspeed_mm_s = 500.0\n");
+        let moves = MovesFile::parse(&text).unwrap();
+        let count = moves.moves.len();
+        let mut out = Vec::new();
+        let err = run(&RobotFile::demo(), &text, RATE_HZ, ScalarKind::F32, &mut out).unwrap_err();
+        match err {
+            PlanError::Move { index, error, time_s } => {
+                assert_eq!(index, count - 1);
+                assert!(error.cycle > 0 && time_s > 0.0);
+            }
+            other => panic!("{other}"),
+        }
+    }
+}

@@ -1,0 +1,228 @@
+//! The setpoint stream and its move queue.
+
+use heapless::Deque;
+
+use super::check::{Checker, JointRateLimits, plan};
+use super::error::{MotionError, MotionFault};
+use super::moves::{Move, PlannedMove, Setpoint};
+use crate::robot::Robot;
+use crate::scalar::Real;
+
+/// What [`Stream::push`] reports about an accepted move.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Accepted<S> {
+    /// The move's number in this stream (counts pushes from 0, wrapping).
+    pub id: u32,
+    /// Cycles the move lasts.
+    pub cycles: u32,
+    /// Time stretch applied (1: as asked).
+    pub stretch: S,
+    /// Whether the move was slowed to respect the joint limits.
+    pub time_scaled: bool,
+    /// Peak joint speed over the move as a fraction of its limit.
+    pub speed_usage: S,
+    /// Peak joint acceleration over the move as a fraction of its limit.
+    pub accel_usage: S,
+}
+
+/// One cycle of the stream: the setpoint and the move it belongs to.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct StreamSetpoint<S> {
+    /// The move's number (see [`Accepted::id`]).
+    pub move_id: u32,
+    /// Position, joints, joint rates, cycle within the move, end flag.
+    pub setpoint: Setpoint<S>,
+}
+
+/// A queue of validated moves, streamed one setpoint per control cycle.
+///
+/// Holds a copy of the robot, the cycle period, the joint rate limits and
+/// up to `N` moves (a `heapless` deque: no allocation). Moves are
+/// validated when they are pushed, so that [`Stream::next_setpoint`] only
+/// replays what was checked; each cycle costs one setpoint (time law,
+/// path, guarded kinematics, Jacobian) and never loops.
+///
+/// # Between consecutive moves
+/// Every move starts where the previous one ends and every time law runs
+/// from rest to rest, so at the junction of two moves the platform stops:
+/// the last cycle of one move is its target at zero velocity, the next
+/// cycle is the first cycle of the next move. No cycle is inserted or
+/// lost and nothing jumps, whatever angle the two paths make. Corners
+/// that should be taken without stopping belong inside one move: the pick
+/// cycle rounds its two corners with arcs and runs one time law over the
+/// whole path.
+#[derive(Clone, Debug)]
+pub struct Stream<S, const N: usize> {
+    robot: Robot<S>,
+    checker: Checker<S>,
+    queue: Deque<(u32, PlannedMove<S>), N>,
+    /// Cycle within the front move, as an integer and as an exact `S`.
+    cycle: u32,
+    k: S,
+    /// Where the last queued move ends (or the stream's start).
+    tail: [S; 3],
+    tail_joints: [S; 3],
+    /// The last emitted setpoint's position and joints.
+    last_position: [S; 3],
+    last_joints: [S; 3],
+    next_id: u32,
+}
+
+impl<S: Real, const N: usize> Stream<S, N> {
+    /// A stream at rest at `start` (mm), emitting one setpoint every
+    /// `period` seconds and keeping joint speeds and accelerations inside
+    /// `limits`.
+    ///
+    /// # Errors
+    /// An invalid period or limit ([`MotionFault::InvalidMove`]), or the
+    /// guarded kinematics' error at `start`.
+    pub fn new(robot: Robot<S>, period: S, limits: JointRateLimits<S>, start: [S; 3]) -> Result<Self, MotionError> {
+        const { assert!(N > 0, "a stream needs room for at least one move") };
+        let checker = Checker::new(period, &limits)?;
+        let at_start = robot.inverse(start).map_err(|e| MotionError::before_sampling(e.into()))?;
+        Ok(Self {
+            robot,
+            checker,
+            queue: Deque::new(),
+            cycle: 0,
+            k: S::ZERO,
+            tail: start,
+            tail_joints: at_start.joints,
+            last_position: start,
+            last_joints: at_start.joints,
+            next_id: 0,
+        })
+    }
+
+    /// Plans and validates `mv` from where the queue ends, without queuing
+    /// it. See [`super::check`] for what is checked and what it costs.
+    ///
+    /// # Errors
+    /// The first reason the move cannot run (see [`MotionFault`]).
+    pub fn plan(&self, mv: &Move<S>) -> Result<PlannedMove<S>, MotionError> {
+        plan(&self.robot, &self.checker, mv, self.tail, self.tail_joints)
+    }
+
+    /// Plans, validates and queues `mv`. A full queue is reported before
+    /// any planning work.
+    ///
+    /// # Errors
+    /// [`MotionFault::QueueFull`], or the first reason the move cannot run.
+    pub fn push(&mut self, mv: &Move<S>) -> Result<Accepted<S>, MotionError> {
+        if self.queue.is_full() {
+            return Err(MotionError::before_sampling(MotionFault::QueueFull));
+        }
+        let planned = self.plan(mv)?;
+        let id = self.push_planned(planned)?;
+        Ok(Accepted {
+            id,
+            cycles: planned.cycles(),
+            stretch: planned.stretch(),
+            time_scaled: planned.time_scaled(),
+            speed_usage: planned.speed_usage(),
+            accel_usage: planned.accel_usage(),
+        })
+    }
+
+    /// Queues a move planned earlier by [`Stream::plan`] on this stream
+    /// (for a cycle that repeats, plan each leg once and push the copies).
+    /// Returns the move's number.
+    ///
+    /// # Errors
+    /// [`MotionFault::QueueFull`]; [`MotionFault::Discontinuous`] when the
+    /// move does not start exactly where the queue ends or was planned for
+    /// another period.
+    pub fn push_planned(&mut self, planned: PlannedMove<S>) -> Result<u32, MotionError> {
+        if self.queue.is_full() {
+            return Err(MotionError::before_sampling(MotionFault::QueueFull));
+        }
+        if planned.start != self.tail || planned.period != self.checker.period {
+            return Err(MotionError::before_sampling(MotionFault::Discontinuous));
+        }
+        let id = self.next_id;
+        let end = planned.end;
+        self.queue.push_back((id, planned)).map_err(|_| MotionError::before_sampling(MotionFault::QueueFull))?;
+        self.next_id = id.wrapping_add(1);
+        self.tail = end;
+        self.tail_joints = planned.end_joints;
+        Ok(id)
+    }
+
+    /// The next cycle's setpoint, or `None` when the queue is empty (the
+    /// platform rests at [`Stream::tail`]). Costs one setpoint; no loop.
+    ///
+    /// # Errors
+    /// Only if a queued move fails the guarded kinematics, which the
+    /// validation excludes. Should it happen anyway, the queue is cleared
+    /// and the error returned: the caller holds the last good setpoint.
+    pub fn next_setpoint(&mut self) -> Result<Option<StreamSetpoint<S>>, MotionError> {
+        let Some(&(move_id, mv)) = self.queue.front() else { return Ok(None) };
+        self.cycle = self.cycle.saturating_add(1);
+        self.k = self.k + S::ONE;
+        let cycle = self.cycle;
+        match mv.setpoint(&self.robot, cycle, self.k) {
+            Ok(setpoint) => {
+                self.last_position = setpoint.position;
+                self.last_joints = setpoint.joints;
+                if setpoint.end_of_move {
+                    let _ = self.queue.pop_front();
+                    self.cycle = 0;
+                    self.k = S::ZERO;
+                }
+                Ok(Some(StreamSetpoint { move_id, setpoint }))
+            }
+            Err(e) => {
+                self.abort();
+                Err(MotionError { cycle, fault: e.into() })
+            }
+        }
+    }
+
+    /// Drops every queued move, including the one running: the platform is
+    /// taken to be where the last emitted setpoint put it, and the next
+    /// push starts there. Meant for faults and emergency stops: stopping
+    /// mid-move is not a planned deceleration.
+    pub fn abort(&mut self) {
+        self.tail = self.last_position;
+        self.tail_joints = self.last_joints;
+        self.queue.clear();
+        self.cycle = 0;
+        self.k = S::ZERO;
+    }
+
+    /// Moves queued, including the one running.
+    #[must_use]
+    pub fn len(&self) -> usize {
+        self.queue.len()
+    }
+
+    /// Whether no move is queued.
+    #[must_use]
+    pub fn is_empty(&self) -> bool {
+        self.queue.is_empty()
+    }
+
+    /// Whether another move can be pushed.
+    #[must_use]
+    pub fn is_full(&self) -> bool {
+        self.queue.is_full()
+    }
+
+    /// Where the last queued move ends (mm): the start of the next push.
+    #[must_use]
+    pub const fn tail(&self) -> [S; 3] {
+        self.tail
+    }
+
+    /// The cycle period (s).
+    #[must_use]
+    pub const fn period(&self) -> S {
+        self.checker.period
+    }
+
+    /// The robot the stream drives.
+    #[must_use]
+    pub const fn robot(&self) -> &Robot<S> {
+        &self.robot
+    }
+}
