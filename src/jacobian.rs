@@ -130,7 +130,9 @@ impl<S: Real> Jacobian<S> {
     /// [`Error::NonFinite`] for a non-finite force;
     /// [`Error::NearParallelSingularity`] when `det J_p` is too small;
     /// [`Error::OutOfRange`] when a torque does not fit the number type
-    /// (fixed point only).
+    /// (beyond +-131 N*m for fixed point; for floats only a finite force
+    /// far beyond any machine's, about 1e36 N in f32, gets here or to the
+    /// previous error).
     pub fn joint_torques(&self, force: [S::Wide; 3]) -> Result<[S::Wide; 3], Error> {
         finite3(force, Input::Force)?;
         let z = self.solve_rods_transposed(force)?;
@@ -178,5 +180,22 @@ impl<S: Real> Jacobian<S> {
             inv.mul_wide(dot_wide(cross(r0, r1), f)),
         ];
         if out.iter().all(|v| v.is_finite()) { Ok(out) } else { Err(Error::NearParallelSingularity) }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use crate::{Error, Geometry, Limits, Robot};
+
+    #[test]
+    fn a_torque_that_would_overflow_is_an_error_not_infinity() {
+        let g: Geometry<f32> =
+            Geometry { base_radius: 160.0, platform_radius: 40.0, upper_arm: 280.0, lower_arm: 720.0 };
+        let robot = Robot::new(g, Limits::uniform(-0.6, 1.5, 0.7, 0.1, 0.1)).unwrap();
+        let jac = robot.inverse([0.0, 0.0, -700.0]).unwrap().jacobian;
+        // Finite in, finite out for an ordinary force ...
+        assert!(jac.joint_torques([0.0, 0.0, -50.0]).unwrap().iter().all(|t| t.is_finite()));
+        // ... and an error, not an infinite torque, for a finite but absurd one.
+        assert_eq!(jac.joint_torques([1.0e37, 0.0, 0.0]), Err(Error::OutOfRange));
     }
 }
