@@ -1,5 +1,5 @@
 //! Bounded-time square root, arc tangent and sine/cosine for the
-//! fixed-point scalar [`super::Fixed`] (Q8.24: raw `i32`, 24 fraction bits,
+//! fixed-point scalar [`super::Fixed`] (Q7.25: raw `i32`, 25 fraction bits,
 //! `i32::MIN` reserved as "not a number").
 //!
 //! * Square root: the binary digit-by-digit (restoring) method, one result
@@ -16,16 +16,16 @@
 //! bound is stated beside the operation) and nothing panics. The error
 //! bounds below are measured by this file's tests against libm's `f64`
 //! functions over dense sweeps of the whole valid range, in units of the
-//! last place of Q8.24 (1 LSB = 2^-24 = 5.96e-8).
+//! last place of Q7.25 (1 LSB = 2^-25 = 2.98e-8).
 
-/// Largest error of [`sqrt`] in LSBs of Q8.24 over every input sampled
+/// Largest error of [`sqrt`] in LSBs of Q7.25 over every input sampled
 /// (the result is the correctly rounded root, so at most half an LSB).
 pub const SQRT_MAX_ERROR_LSB: f64 = 0.5;
-/// Largest error of [`atan2`] in LSBs of Q8.24 (measured 1.37 LSB,
+/// Largest error of [`atan2`] in LSBs of Q7.25 (measured 1.37 LSB,
 /// 8.2e-8 rad, over all octants and magnitudes from one LSB to the
 /// largest representable).
 pub const ATAN2_MAX_ERROR_LSB: f64 = 2.0;
-/// Largest error of either output of [`sin_cos`] in LSBs of Q8.24
+/// Largest error of either output of [`sin_cos`] in LSBs of Q7.25
 /// (measured 0.99 LSB, 5.9e-8, over the whole representable range).
 pub const SIN_COS_MAX_ERROR_LSB: f64 = 1.5;
 
@@ -82,19 +82,22 @@ const SIN_COS_STEPS: usize = ATAN_Q29.len();
 /// for [`SIN_COS_STEPS`] steps in Q1.30; checked by `cordic_gain_matches`.
 const INV_GAIN_Q30: i32 = 652_032_874;
 
-/// pi in Q8.24 and in Q3.29, 2 pi in Q3.29 (as i64), 2^32 / (2 pi).
-pub(crate) const PI_Q24: i32 = 52_707_179;
+/// Fraction bits of the scalar (Q7.25).
+pub(crate) const FRAC: u32 = 25;
+
+/// pi in Q7.25 and in Q3.29, 2 pi in Q3.29 (as i64), 2^32 / (2 pi).
+pub(crate) const PI_RAW: i32 = 105_414_357;
 const PI_Q29: i32 = 1_686_629_713;
 const TWO_PI_Q29: i64 = 3_373_259_426;
 const INV_TWO_PI_Q32: i64 = 683_565_276;
 
-/// Square root of a Q8.24 value, correctly rounded to Q8.24.
+/// Square root of a Q7.25 value, correctly rounded to Q7.25.
 ///
-/// * Input: `x >= 0` (any representable value, up to 128). A negative
+/// * Input: `x >= 0` (any representable value, up to 64). A negative
 ///   input or "not a number" returns "not a number".
-/// * Method: digit-by-digit on the 56-bit radicand `x * 2^24` (whose root
-///   is the Q8.24 root), 28 steps, then round to nearest: the remainder
-///   `x*2^24 - r^2` exceeds `r` exactly when the root is at least `r + 1/2`.
+/// * Method: digit-by-digit on the 56-bit radicand `x * 2^25` (whose root
+///   is the Q7.25 root), 28 steps, then round to nearest: the remainder
+///   `x*2^25 - r^2` exceeds `r` exactly when the root is at least `r + 1/2`.
 /// * Error: at most 0.5 LSB (the exact root, rounded).
 ///
 /// # Panics
@@ -104,9 +107,9 @@ pub(crate) fn sqrt(x: i32) -> i32 {
     if x < 0 {
         return NAN;
     }
-    // x < 2^31, so the radicand is below 2^55 and the root below 2^27.5.
+    // x < 2^31, so the radicand is below 2^56 and the root below 2^28.
     #[allow(clippy::cast_sign_loss)] // x >= 0
-    let mut rem = (x as u64) << 24;
+    let mut rem = (x as u64) << FRAC;
     let mut root: u64 = 0;
     // bit runs over the even powers 2^54, 2^52, ..., 2^0.
     let mut bit: u64 = 1 << 54;
@@ -123,13 +126,13 @@ pub(crate) fn sqrt(x: i32) -> i32 {
     if rem > root {
         root += 1;
     }
-    // root <= 2^27.5 + 1 < 2^31.
+    // root <= 2^28 < 2^31.
     #[allow(clippy::cast_possible_truncation)]
     let r = root as i32;
     r
 }
 
-/// Four-quadrant arc tangent of `y / x`, both Q8.24, result Q8.24 radians
+/// Four-quadrant arc tangent of `y / x`, both Q7.25, result Q7.25 radians
 /// in `[-pi, pi]`. `atan2(0, 0)` is 0; `atan2(0, x < 0)` is `+pi`.
 ///
 /// * Method: scale `(x, y)` by a power of two so the larger magnitude lies
@@ -167,7 +170,7 @@ pub(crate) fn atan2(y: i32, x: i32) -> i32 {
     let offset = if vx < 0 {
         vx = -vx;
         vy = -vy;
-        if y >= 0 { PI_Q24 } else { -PI_Q24 }
+        if y >= 0 { PI_RAW } else { -PI_RAW }
     } else {
         0
     };
@@ -184,21 +187,21 @@ pub(crate) fn atan2(y: i32, x: i32) -> i32 {
             z -= step;
         }
     }
-    // |z| <= sum of the table < 1.75 rad; to Q8.24 rounding to nearest.
-    let z24 = (z + (1 << (ANGLE_BITS - 25))) >> (ANGLE_BITS - 24);
-    let out = z24 + offset;
-    out.clamp(-PI_Q24, PI_Q24)
+    // |z| <= sum of the table < 1.75 rad; to Q7.25 rounding to nearest.
+    let z25 = (z + (1 << (ANGLE_BITS - FRAC - 1))) >> (ANGLE_BITS - FRAC);
+    let out = z25 + offset;
+    out.clamp(-PI_RAW, PI_RAW)
 }
 
-/// Sine and cosine of a Q8.24 angle (radians), both Q8.24.
+/// Sine and cosine of a Q7.25 angle (radians), both Q7.25.
 ///
-/// * Input: any representable angle (`|theta| < 128`); "not a number"
+/// * Input: any representable angle (`|theta| < 64`); "not a number"
 ///   returns two of them.
 /// * Method: explicit wrap to `[-pi, pi]` in Q3.29 by subtracting
 ///   `k * 2 pi`, `k = round(theta / (2 pi))` found with a multiplication by
 ///   `1/(2 pi)` (no division); a half-turn flip into `[-pi/2, pi/2]`; then
 ///   [`SIN_COS_STEPS`] CORDIC rotation steps from `(1/gain, 0)` in Q1.30,
-///   rounded to Q8.24. Magnitudes stay below `2^30` throughout.
+///   rounded to Q7.25. Magnitudes stay below `2^30` throughout.
 /// * Error: [`SIN_COS_MAX_ERROR_LSB`] on either output.
 ///
 /// # Panics
@@ -210,9 +213,9 @@ pub(crate) fn sin_cos(theta: i32) -> (i32, i32) {
     }
     let t = i64::from(theta);
     // |t| < 2^31 and INV_TWO_PI_Q32 < 2^30: the product is below 2^61.
-    let k = (t * INV_TWO_PI_Q32 + (1 << 55)) >> 56;
-    // |k| <= 21; r in Q3.29 lies within pi (+ a rounding hair) of zero.
-    let r64 = (t << (ANGLE_BITS - 24)) - k * TWO_PI_Q29;
+    let k = (t * INV_TWO_PI_Q32 + (1 << (31 + FRAC))) >> (32 + FRAC);
+    // |k| <= 11; r in Q3.29 lies within pi (+ a rounding hair) of zero.
+    let r64 = (t << (ANGLE_BITS - FRAC)) - k * TWO_PI_Q29;
     #[allow(clippy::cast_possible_truncation)] // |r64| < 1.7e9 < 2^31
     let mut r = r64 as i32;
     let half_pi = PI_Q29 / 2;
@@ -238,8 +241,9 @@ pub(crate) fn sin_cos(theta: i32) -> (i32, i32) {
             r += step;
         }
     }
-    // Q1.30 to Q8.24, rounding to nearest; |x|, |y| <= 2^30.
-    let (s, c) = ((y + 32) >> 6, (x + 32) >> 6);
+    // Q1.30 to Q7.25, rounding to nearest; |x|, |y| <= 2^30.
+    let half = 1 << (29 - FRAC);
+    let (s, c) = ((y + half) >> (30 - FRAC), (x + half) >> (30 - FRAC));
     if flip { (-s, -c) } else { (s, c) }
 }
 
@@ -247,13 +251,13 @@ pub(crate) fn sin_cos(theta: i32) -> (i32, i32) {
 mod tests {
     use super::*;
 
-    const LSB: f64 = 1.0 / 16_777_216.0;
+    const LSB: f64 = 1.0 / 33_554_432.0;
 
     fn to_f(raw: i32) -> f64 {
         f64::from(raw) * LSB
     }
 
-    /// Error in LSBs of the Q8.24 `got` against the exact `want`.
+    /// Error in LSBs of the Q7.25 `got` against the exact `want`.
     fn err_lsb(got: i32, want: f64) -> f64 {
         (to_f(got) - want).abs() / LSB
     }
@@ -274,7 +278,7 @@ mod tests {
         }
         assert!((f64::from(INV_GAIN_Q30) - k * f64::from(1u32 << 30)).abs() <= 0.5);
         let pi = core::f64::consts::PI;
-        assert!((f64::from(PI_Q24) - pi * 16_777_216.0).abs() <= 0.5);
+        assert!((f64::from(PI_RAW) - pi / LSB).abs() <= 0.5);
         assert!((f64::from(PI_Q29) - pi * f64::from(1u32 << 29)).abs() <= 0.5);
         assert!((TWO_PI_Q29 as f64 - 2.0 * pi * f64::from(1u32 << 29)).abs() <= 0.5);
         assert!((INV_TWO_PI_Q32 as f64 - 4_294_967_296.0 / (2.0 * pi)).abs() <= 0.5);
@@ -290,8 +294,8 @@ mod tests {
         }
         assert!(worst <= SQRT_MAX_ERROR_LSB, "worst {worst} LSB");
         assert_eq!(sqrt(0), 0);
-        assert_eq!(sqrt(1 << 24), 1 << 24);
-        assert_eq!(sqrt(4 << 24), 2 << 24);
+        assert_eq!(sqrt(1 << FRAC), 1 << FRAC);
+        assert_eq!(sqrt(4 << FRAC), 2 << FRAC);
         assert_eq!(sqrt(-1), NAN);
         assert_eq!(sqrt(NAN), NAN);
     }
@@ -308,7 +312,7 @@ mod tests {
             worst = worst.max(e);
         };
         let n = 2_000;
-        for &mag in &[1.0e-6, 1.0e-3, 0.37, 1.0, 3.0, 17.0, 127.9] {
+        for &mag in &[1.0e-6, 1.0e-3, 0.37, 1.0, 3.0, 17.0, 63.9] {
             for i in 0..n {
                 let a = -core::f64::consts::PI + 2.0 * core::f64::consts::PI * f64::from(i) / f64::from(n);
                 let (s, c) = libm::sincos(a);
@@ -327,14 +331,14 @@ mod tests {
         let m = i32::MAX;
         for y in [-3, -1, 1, 3, 1000, -1000] {
             check(y, -m);
-            check(y, -(1 << 24));
+            check(y, -(1 << FRAC));
         }
         // The largest valid arguments, on axes and diagonals.
         for (y, x) in [(m, m), (-m, m), (m, -m), (-m, -m), (m, 0), (-m, 0), (0, m), (0, -m), (m, 1), (1, -m)] {
             check(y, x);
         }
         assert_eq!(atan2(0, 0), 0);
-        assert_eq!(atan2(0, -5), PI_Q24);
+        assert_eq!(atan2(0, -5), PI_RAW);
         assert_eq!(atan2(NAN, 1), NAN);
         assert!(worst > ATAN2_MAX_ERROR_LSB / 4.0, "bound too loose: worst {worst}");
     }
@@ -355,7 +359,7 @@ mod tests {
             check(i * (two_pi / 100_000));
             check(i * (i32::MAX / 200_000));
         }
-        for t in [0, 1, -1, 7, PI_Q24, -PI_Q24, PI_Q24 - 1, -PI_Q24 + 1, PI_Q24 / 2, -PI_Q24 / 2, i32::MAX, -i32::MAX] {
+        for t in [0, 1, -1, 7, PI_RAW, -PI_RAW, PI_RAW - 1, -PI_RAW + 1, PI_RAW / 2, -PI_RAW / 2, i32::MAX, -i32::MAX] {
             check(t);
         }
         assert_eq!(sin_cos(NAN), (NAN, NAN));

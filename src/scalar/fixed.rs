@@ -6,7 +6,7 @@
 //!
 //! | type | format | range | LSB | used for |
 //! |---|---|---|---|---|
-//! | [`Fixed`] | Q8.24 | +-128 | 5.96e-8 | the solvers' internal values (lower-arm units), angles (rad), margins |
+//! | [`Fixed`] | Q7.25 | +-64 | 2.98e-8 | the solvers' internal values (lower-arm units), angles (rad), margins |
 //! | [`FixedWide`] | Q18.14 | +-131 072 | 6.10e-5 | API quantities: mm, mm/s, rad/s, N, N*mm |
 //!
 //! # Why two formats (the decision)
@@ -21,7 +21,7 @@
 //! `Wide = Self` and keep their results bit for bit. Only the edges change:
 //! the solvers, guards and Jacobian stay generic.
 //!
-//! # Range analysis (why Q8.24 for the internal type)
+//! # Range analysis (why Q7.25 for the internal type)
 //! In lower-arm units write `a` for the upper arm, `d` for
 //! `base_radius - platform_radius`, and `R = sqrt((|d| + a)^2 + a^2)`, the
 //! largest distance of a forward-kinematics sphere centre from the origin.
@@ -36,17 +36,19 @@
 //!   largest product, and the circumcentre numerator is `2 |n|^2 r_c <=
 //!   13.5 R^4` at any pose that assembles.
 //!
-//! The envelope demands `R <= 1.4` ([`Fixed::ENVELOPE_MAX_R`]), so every
-//! value stays below `20.8 * 1.4^5 = 112 < 128`: eight integer bits
-//! suffice, and the 24 fraction bits left give the resolution. That
-//! envelope covers upper arms up to 0.75 of the lower arm with `d` up to
-//! 0.65 of it, beyond the ratios of practical rotary deltas (lower/upper
-//! of 1.5 to 3.5). Outside the proven range the operations are checked
+//! The envelope demands `R <= 1.25` ([`Fixed::ENVELOPE_MAX_R`]), so every
+//! value stays below `20.8 * 1.25^5 = 63.5 < 64`: seven integer bits (sign
+//! included) suffice, and the 25 fraction bits left give the resolution.
+//! Q8.24 with `R <= 1.4` was tried first; its rounding left the forward
+//! kinematics of a 2000 mm arm at 5.0 um worst case, on the target, so one
+//! integer bit went back to resolution. The envelope covers upper arms up
+//! to 0.7 of the lower arm with `d` up to 0.33 of it, or 0.6 with `d` up to
+//! 0.5: the ratios of practical rotary deltas (lower/upper of 1.5 to 3.5). Outside the proven range the operations are checked
 //! (below), so an out-of-envelope input gives an error, never a wrapped
 //! value.
 //!
 //! # Resolution for a 1 m class robot (lower arm 1000 mm)
-//! * Q8.24 internal length: 5.96e-8 lower arms = 0.06 um; angle: 0.06 urad.
+//! * Q7.25 internal length: 2.98e-8 lower arms = 0.03 um; angle: 0.03 urad.
 //! * Q18.14 API length: 6.1e-5 mm = 0.061 um; its range +-131 m covers
 //!   positions, velocities to 131 m/s and torques to 131 N*m.
 //! * Measured worst case against an f64 reference (host tests,
@@ -73,10 +75,10 @@
 use core::cmp::Ordering;
 use core::ops::{Add, Mul, Neg, Sub};
 
-use super::cordic::{self, NAN};
+use super::cordic::{self, FRAC, NAN};
 use super::{Arith, Real};
 
-/// Q8.24 fixed point: the internal scalar of the fixed-point path. See the
+/// Q7.25 fixed point: the internal scalar of the fixed-point path. See the
 /// module documentation for the format, the range analysis and the
 /// overflow policy. `Robot<Fixed>` takes lengths as [`FixedWide`].
 #[derive(Clone, Copy, Debug)]
@@ -97,7 +99,6 @@ pub struct FixedRecip {
     k: u32,
 }
 
-const FRAC: u32 = 24;
 const WIDE_FRAC: u32 = 14;
 const ONE_RAW: i32 = 1 << FRAC;
 const WIDE_ONE_RAW: i32 = 1 << WIDE_FRAC;
@@ -331,19 +332,19 @@ const TWO_PI_Q32: i64 = 26_986_075_409;
 impl Fixed {
     /// Largest `R = sqrt((|d| + a)^2 + a^2)` (lower-arm units) of the
     /// validated envelope; see the module documentation.
-    pub const ENVELOPE_MAX_R: f64 = 1.4;
+    pub const ENVELOPE_MAX_R: f64 = 1.25;
     /// Smallest upper arm of the envelope, in lower-arm units (keeps
     /// `1 / (2a)` at most 2.5).
     pub const ENVELOPE_MIN_A: f64 = 0.2;
     /// Shortest lower arm of the envelope (mm).
     pub const ENVELOPE_MIN_LOWER_ARM_MM: i32 = 50;
     /// Longest lower arm of the envelope (mm). Targets are then at most
-    /// `131 071 / 4000 = 32` lower arms away, inside the Q8.24 range, and
-    /// positions keep 0.24 um resolution.
+    /// `131 071 / 4000 = 32` lower arms away, inside the Q7.25 range, and
+    /// internal lengths keep 0.12 um resolution.
     pub const ENVELOPE_MAX_LOWER_ARM_MM: i32 = 4000;
 
     /// From whole microradians, rounded to nearest (ties away from zero);
-    /// `None` beyond +-128 rad.
+    /// `None` beyond +-64 rad.
     #[must_use]
     pub fn from_urad(urad: i32) -> Option<Self> {
         Self::scaled_int(i64::from(urad), 1_000_000)
@@ -358,10 +359,10 @@ impl Fixed {
 
     /// A joint angle from an encoder reading: `counts * 2 pi /
     /// counts_per_rev` radians, rounded to nearest (error at most 0.51
-    /// LSB: the quotient is rounded in Q.32, then to Q8.24).
+    /// LSB: the quotient is rounded in Q.32, then to Q7.25).
     ///
     /// `None` when `counts_per_rev` is 0 or above [`MAX_COUNTS_PER_REV`],
-    /// or the angle is beyond +-128 rad.
+    /// or the angle is beyond +-64 rad.
     #[must_use]
     pub fn from_counts(counts: i32, counts_per_rev: u32) -> Option<Self> {
         if counts_per_rev == 0 || counts_per_rev > MAX_COUNTS_PER_REV {
@@ -371,8 +372,8 @@ impl Fixed {
         let c = i64::from(counts);
         let (turns, rest) = (c / cpr, c % cpr);
         // |turns| * 2 pi < 2^31 * 2^35 would overflow: refuse early, the
-        // angle is out of range anyway beyond 20 turns.
-        if turns.abs() > 21 {
+        // angle is out of range anyway beyond 10 turns.
+        if turns.abs() > 11 {
             return None;
         }
         // |rest| < 2^24 and TWO_PI_Q32 < 2^35: product below 2^59.
@@ -390,11 +391,12 @@ impl Fixed {
         if self.0 == NAN || counts_per_rev == 0 || counts_per_rev > MAX_COUNTS_PER_REV {
             return None;
         }
-        // |raw| * cpr < 2^31 * 2^24 = 2^55; times 2^8 would overflow, so
-        // divide by 2 pi in Q.24 carried to Q.32 precision: raw * cpr *
-        // 2^8 / TWO_PI_Q32 = (raw * cpr) / (TWO_PI_Q32 / 2^8).
+        // counts = raw * cpr * 2^(32 - FRAC) / TWO_PI_Q32. |raw| * cpr <
+        // 2^31 * 2^24 = 2^55, so take two bits off the divisor instead of
+        // shifting the numerator by all of 32 - FRAC (relative error of
+        // the divisor below 2^-33).
         let n = i64::from(self.0) * i64::from(counts_per_rev);
-        let q = div_round(n << 6, TWO_PI_Q32 >> 2);
+        let q = div_round(n << (30 - FRAC), TWO_PI_Q32 >> 2);
         let v = narrow(q);
         if v == NAN { None } else { Some(v) }
     }
@@ -405,12 +407,12 @@ impl Arith for Fixed {
     const ONE: Self = Self(ONE_RAW);
     const TWO: Self = Self(2 * ONE_RAW);
     const HALF: Self = Self(ONE_RAW / 2);
-    const PI: Self = Self(cordic::PI_Q24);
+    const PI: Self = Self(cordic::PI_RAW);
 
     type Wide = FixedWide;
     type Recip = FixedRecip;
 
-    /// Q8.24 times Q18.14 to Q18.14, rounded; NaN when out of range.
+    /// Q7.25 times Q18.14 to Q18.14, rounded; NaN when out of range.
     #[inline]
     fn mul_wide(self, w: FixedWide) -> FixedWide {
         FixedWide(mul_raw(self.0, w.0, FRAC))
@@ -421,7 +423,7 @@ impl Arith for Fixed {
         FixedWide::reciprocal(den)
     }
 
-    /// `num / den` in Q8.24, rounded: one 64-bit product and a shift;
+    /// `num / den` in Q7.25, rounded: one 64-bit product and a shift;
     /// relative error of the reciprocal below 2^-31, so below 0.1 LSB for
     /// quotients under 4.
     #[inline]
@@ -436,8 +438,8 @@ impl Arith for Fixed {
     /// [`Fixed::ENVELOPE_MAX_R`]`^2`, all computed with checked operations.
     fn admits_geometry(lower_arm: FixedWide, a: Self, d: Self) -> bool {
         let (lo, hi) = (Self::ENVELOPE_MIN_LOWER_ARM_MM << WIDE_FRAC, Self::ENVELOPE_MAX_LOWER_ARM_MM << WIDE_FRAC);
-        let min_a = Self(3_355_444); // 0.2 in Q8.24, rounded up
-        let max_r2 = Self(32_883_343); // 1.96 in Q8.24, rounded down
+        let min_a = Self(6_710_887); // 0.2 in Q7.25, rounded up
+        let max_r2 = Self(52_428_800); // 1.5625 in Q7.25, exact
         let s = d.abs() + a;
         let r2 = s * s + a * a;
         lower_arm.0 >= lo && lower_arm.0 <= hi && a >= min_a && r2 <= max_r2
@@ -581,7 +583,7 @@ mod tests {
 
     #[test]
     fn operators_are_checked_and_never_wrap() {
-        let big = Fixed::from_f64(100.0).unwrap();
+        let big = Fixed::from_f64(50.0).unwrap();
         assert!(!(big + big).is_finite());
         assert!(!(-big - big).is_finite());
         assert!(!(big * big).is_finite());
@@ -599,15 +601,17 @@ mod tests {
         assert!(!Fixed::TWO.mul_wide(w).is_finite());
     }
 
+    const LSB: f64 = 1.0 / 33_554_432.0;
+
     #[test]
     fn products_and_quotients_round_to_nearest() {
         let third = Fixed::ONE.checked_div(Fixed::from_f64(3.0).unwrap()).unwrap();
-        assert!((third.to_f64() - 1.0 / 3.0).abs() <= 0.5 / 16_777_216.0);
+        assert!((third.to_f64() - 1.0 / 3.0).abs() <= 0.5 * LSB);
         let x = Fixed::from_f64(1.234_567).unwrap();
         let y = Fixed::from_f64(-2.345_678).unwrap();
-        assert!(((x * y).to_f64() - x.to_f64() * y.to_f64()).abs() <= 0.5 / 16_777_216.0);
+        assert!(((x * y).to_f64() - x.to_f64() * y.to_f64()).abs() <= 0.5 * LSB);
         let q = x.checked_div(y).unwrap();
-        assert!((q.to_f64() - x.to_f64() / y.to_f64()).abs() <= 0.5 / 16_777_216.0);
+        assert!((q.to_f64() - x.to_f64() / y.to_f64()).abs() <= 0.5 * LSB);
     }
 
     #[test]
@@ -619,11 +623,11 @@ mod tests {
                 let num = FixedWide::from_f64(num_mm).unwrap();
                 let got = Fixed::mul_recip(num, r).to_f64();
                 let want = num.to_f64() / den.to_f64();
-                if want.abs() >= 128.0 {
+                if want.abs() >= 64.0 {
                     assert!(got.is_nan(), "{num_mm}/{den_mm} must be out of range");
                     continue;
                 }
-                assert!((got - want).abs() <= 0.6 / 16_777_216.0, "{num_mm}/{den_mm}: {got} vs {want}");
+                assert!((got - want).abs() <= 1.0 * LSB, "{num_mm}/{den_mm}: {got} vs {want}");
             }
         }
         assert_eq!(Fixed::recip(FixedWide::ZERO), None);
@@ -652,17 +656,17 @@ mod tests {
         assert!(Fixed::NAN.to_f32().is_nan());
         assert_eq!(Fixed::from_urad(1_000_000).unwrap(), Fixed::ONE);
         assert_eq!(Fixed::from_f64(-0.000_123_456).unwrap().to_urad(), Some(-123));
-        assert_eq!(Fixed::from_f64(127.9).unwrap().to_urad(), Some(127_900_000));
+        assert_eq!(Fixed::from_f64(63.9).unwrap().to_urad(), Some(63_900_000));
     }
 
     #[test]
     fn encoder_counts_round_trip() {
         for cpr in [4096u32, 10_000, 131_072, MAX_COUNTS_PER_REV] {
             let cpr_i = i32::try_from(cpr).unwrap();
-            for counts in [0, 1, -1, cpr_i / 4, -cpr_i / 3, cpr_i / 2, cpr_i, 7 * cpr_i + 5, -(20 * cpr_i)] {
+            for counts in [0, 1, -1, cpr_i / 4, -cpr_i / 3, cpr_i / 2, cpr_i, 7 * cpr_i + 5, -(10 * cpr_i)] {
                 let a = Fixed::from_counts(counts, cpr).unwrap();
                 let want = f64::from(counts) * 2.0 * core::f64::consts::PI / f64::from(cpr);
-                assert!((a.to_f64() - want).abs() <= 0.51 / 16_777_216.0, "{counts}/{cpr}");
+                assert!((a.to_f64() - want).abs() <= 0.51 * LSB, "{counts}/{cpr}");
                 // Back: exact when one count is wider than an LSB.
                 if cpr <= 1 << 20 {
                     assert_eq!(a.to_counts(cpr), Some(counts), "{counts}/{cpr}");
