@@ -19,6 +19,9 @@ use proptest::prelude::*;
 /// fixed-point issue, 5 urad, over lower arms of 200-2000 mm.
 const FIXED_JOINT_ERR_RAD: f64 = 5e-6;
 /// Platform-position error bound of the fixed path (mm): 5 um.
+///
+/// Measured on the dense sweep (9915 guarded poses): joint 1.07e-6 rad,
+/// position 3.5e-3 mm, the latter at the 2000 mm lower arm.
 const FIXED_POS_ERR_MM: f64 = 5e-3;
 /// A pose counts as clear of a guard threshold when every margin, tilt
 /// cosine and joint angle is at least this far from its limit; there the

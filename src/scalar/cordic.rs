@@ -18,15 +18,17 @@
 //! functions over dense sweeps of the whole valid range, in units of the
 //! last place of Q7.25 (1 LSB = 2^-25 = 2.98e-8).
 
-/// Largest error of [`sqrt`] in LSBs of Q7.25 over every input sampled
-/// (the result is the correctly rounded root, so at most half an LSB).
+/// Largest error of the fixed-point square root in LSBs of Q7.25 over
+/// every input sampled (the result is the correctly rounded root, so at
+/// most half an LSB).
 pub const SQRT_MAX_ERROR_LSB: f64 = 0.5;
-/// Largest error of [`atan2`] in LSBs of Q7.25 (measured 1.37 LSB,
-/// 8.2e-8 rad, over all octants and magnitudes from one LSB to the
-/// largest representable).
+/// Largest error of the fixed-point `atan2` in LSBs of Q7.25, asserted
+/// over all octants and magnitudes from one LSB to the largest
+/// representable; the largest seen is 1.0 LSB (3.0e-8 rad).
 pub const ATAN2_MAX_ERROR_LSB: f64 = 2.0;
-/// Largest error of either output of [`sin_cos`] in LSBs of Q7.25
-/// (measured 0.99 LSB, 5.9e-8, over the whole representable range).
+/// Largest error of either output of the fixed-point `sin_cos` in LSBs of
+/// Q7.25, asserted over the whole representable range; the largest seen
+/// is 0.79 LSB (2.3e-8).
 pub const SIN_COS_MAX_ERROR_LSB: f64 = 1.5;
 
 /// The reserved "not a number" raw value.

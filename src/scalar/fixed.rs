@@ -51,9 +51,11 @@
 //! * Q7.25 internal length: 2.98e-8 lower arms = 0.03 um; angle: 0.03 urad.
 //! * Q18.14 API length: 6.1e-5 mm = 0.061 um; its range +-131 m covers
 //!   positions, velocities to 131 m/s and torques to 131 N*m.
-//! * Measured worst case against an f64 reference (host tests,
-//!   `host-tests/tests/fixed_point.rs`, lower arms 200-2000 mm): see the
-//!   constants there; both stay below 1 um and 1 urad.
+//! * Measured worst case against the independent f64 reference (host
+//!   tests, `host-tests/tests/fixed_point.rs`, lower arms 200-2000 mm,
+//!   9915 guarded poses of 25 geometries plus random ones): joint angle
+//!   1.07 urad, platform position 3.5 um (at the 2000 mm arm; the error
+//!   in lower-arm units is below 1.8e-6, so it scales with the arm).
 //!
 //! # Overflow policy
 //! Every operator is checked and never panics: `+`, `-`, `*` (64-bit
@@ -554,7 +556,7 @@ impl Arith for FixedWide {
 }
 
 impl Real for Fixed {
-    /// [`cordic`]'s digit-by-digit root: correctly rounded, NaN for a
+    /// Digit-by-digit root: correctly rounded, NaN for a
     /// negative argument.
     #[inline]
     fn sqrt(self) -> Self {
