@@ -113,6 +113,9 @@ pub enum Error {
     InvalidGeometry(ConfigFault),
     /// The limits are inconsistent or do not fit the geometry.
     InvalidLimits(ConfigFault),
+    /// A result does not fit the number type (fixed point only: a velocity,
+    /// rate or torque beyond the range of [`crate::scalar::FixedWide`]).
+    OutOfRange,
 }
 
 impl Error {
@@ -130,6 +133,7 @@ impl Error {
             Error::NearParallelSingularity => "near_parallel",
             Error::InvalidGeometry(_) => "invalid_geometry",
             Error::InvalidLimits(_) => "invalid_limits",
+            Error::OutOfRange => "out_of_range",
         }
     }
 }
@@ -171,6 +175,7 @@ impl fmt::Display for Error {
             Error::NearParallelSingularity => f.write_str("too close to a parallel singularity"),
             Error::InvalidGeometry(why) => write!(f, "invalid geometry: {why}"),
             Error::InvalidLimits(why) => write!(f, "invalid limits: {why}"),
+            Error::OutOfRange => f.write_str("a result does not fit the number type"),
         }
     }
 }
@@ -193,6 +198,7 @@ mod tests {
             Error::NearParallelSingularity,
             Error::InvalidGeometry(ConfigFault::NotPositive),
             Error::InvalidLimits(ConfigFault::JointRange),
+            Error::OutOfRange,
         ];
         for (i, a) in all.iter().enumerate() {
             let w = a.status_word();

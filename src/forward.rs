@@ -69,7 +69,8 @@ fn centre<S: Real>(robot: &Robot<S>, arm: usize, sin: S, cos: S) -> [S; 3] {
 /// # Errors
 /// [`Error::NoAssembly`] when the spheres do not meet;
 /// [`Error::NearParallelSingularity`] when the centres are collinear (the
-/// intersection is then a circle or nothing).
+/// intersection is then a circle or nothing), or so nearly collinear that
+/// the result leaves the number type's range.
 pub(crate) fn solve<S: Real>(robot: &Robot<S>, trig: [(S, S); 3]) -> Result<[S; 3], Error> {
     let [(s0, c0), (s1, c1), (s2, c2)] = trig;
     let p0 = centre(robot, 0, s0, c0);
@@ -91,5 +92,9 @@ pub(crate) fn solve<S: Real>(robot: &Robot<S>, trig: [(S, S); 3]) -> Result<[S; 
     // h2 <= 1 and 1/n2 is finite, so the product cannot overflow.
     let t = (h2 * (inv_2n2 + inv_2n2)).sqrt();
     let t = if n[2] > S::ZERO { -t } else { t };
-    Ok([p0[0] + q[0] + t * n[0], p0[1] + q[1] + t * n[1], p0[2] + q[2] + t * n[2]])
+    let p = [p0[0] + q[0] + t * n[0], p0[1] + q[1] + t * n[1], p0[2] + q[2] + t * n[2]];
+    // A bounded number type (fixed point) gives not-a-number when a nearly
+    // collinear set of centres drives `t` out of range: report it as the
+    // singularity it is close to rather than return it.
+    if p.iter().all(|v| v.is_finite()) { Ok(p) } else { Err(Error::NearParallelSingularity) }
 }

@@ -35,13 +35,16 @@
 
 use crate::error::{Error, Input};
 use crate::forward::{cross, dot};
-use crate::scalar::Real;
+use crate::scalar::{Arith, Real};
 
 /// The Jacobian at one pose, with the velocity and force maps.
 ///
-/// Units: platform velocity mm/s, joint rates rad/s, force N, torque N*mm.
+/// Units: platform velocity mm/s, joint rates rad/s, force N, torque N*mm,
+/// all of the scalar's API type [`Arith::Wide`] (the scalar itself for
+/// floats). The pose-dependent parts (unit rods, rates, determinant) stay
+/// in the internal type.
 #[derive(Clone, Copy, Debug, PartialEq)]
-pub struct Jacobian<S> {
+pub struct Jacobian<S: Arith> {
     /// Unit lower-arm vectors (elbow to platform), base frame.
     rods: [[S; 3]; 3],
     /// `b_i` in lower-arm units per radian.
@@ -49,15 +52,22 @@ pub struct Jacobian<S> {
     /// `det` of the three unit rods.
     det: S,
     /// Lower-arm length, mm.
-    scale: S,
+    scale: S::Wide,
 }
 
-fn finite3<S: Real>(v: [S; 3], input: Input) -> Result<(), Error> {
+fn finite3<A: Arith>(v: [A; 3], input: Input) -> Result<(), Error> {
     if v.iter().all(|x| x.is_finite()) { Ok(()) } else { Err(Error::NonFinite { input }) }
 }
 
+/// `sum_j m_j w_j`: internal coefficients times API quantities.
+fn dot_wide<S: Arith>(m: [S; 3], w: [S::Wide; 3]) -> S::Wide {
+    let [m0, m1, m2] = m;
+    let [w0, w1, w2] = w;
+    m0.mul_wide(w0) + m1.mul_wide(w1) + m2.mul_wide(w2)
+}
+
 impl<S: Real> Jacobian<S> {
-    pub(crate) fn new(rods: [[S; 3]; 3], rates: [S; 3], scale: S) -> Self {
+    pub(crate) fn new(rods: [[S; 3]; 3], rates: [S; 3], scale: S::Wide) -> Self {
         let [r0, r1, r2] = rods;
         Self { rods, rates, det: dot(r0, cross(r1, r2)), scale }
     }
@@ -72,16 +82,20 @@ impl<S: Real> Jacobian<S> {
     ///
     /// # Errors
     /// [`Error::NonFinite`] for a non-finite velocity;
-    /// [`Error::NearSerialSingularity`] naming the arm whose `b_i` is too
-    /// small to divide by.
-    pub fn joint_rates(&self, velocity: [S; 3]) -> Result<[S; 3], Error> {
+    /// [`Error::OutOfRange`] when an intermediate value does not fit the
+    /// number type (fixed point only); [`Error::NearSerialSingularity`]
+    /// naming the arm whose `b_i` is too small to divide by.
+    pub fn joint_rates(&self, velocity: [S::Wide; 3]) -> Result<[S::Wide; 3], Error> {
         finite3(velocity, Input::Velocity)?;
-        let mut out = [S::ZERO; 3];
+        let mut out = [S::Wide::ZERO; 3];
         for (arm, (o, (rod, &b))) in out.iter_mut().zip(self.rods.iter().zip(self.rates.iter())).enumerate() {
             #[allow(clippy::cast_possible_truncation)] // arm < 3
             let err = Error::NearSerialSingularity { arm: arm as u8 };
-            let along = dot(*rod, velocity);
-            *o = along.checked_div(b * self.scale).ok_or(err)?;
+            let along = dot_wide(*rod, velocity);
+            if !along.is_finite() {
+                return Err(Error::OutOfRange);
+            }
+            *o = along.checked_div(b.mul_wide(self.scale)).ok_or(err)?;
         }
         Ok(out)
     }
@@ -90,15 +104,20 @@ impl<S: Real> Jacobian<S> {
     /// `v = J_p^-1 diag(b) w`.
     ///
     /// # Errors
-    /// [`Error::NonFinite`] for non-finite rates;
-    /// [`Error::NearParallelSingularity`] when `det J_p` is too small.
-    pub fn cartesian_velocity(&self, rates: [S; 3]) -> Result<[S; 3], Error> {
+    /// [`Error::NonFinite`] for non-finite rates; [`Error::OutOfRange`]
+    /// when an intermediate value does not fit the number type (fixed
+    /// point only); [`Error::NearParallelSingularity`] when `det J_p` is
+    /// too small.
+    pub fn cartesian_velocity(&self, rates: [S::Wide; 3]) -> Result<[S::Wide; 3], Error> {
         finite3(rates, Input::JointRates)?;
         let y = [
-            self.rates[0] * rates[0] * self.scale,
-            self.rates[1] * rates[1] * self.scale,
-            self.rates[2] * rates[2] * self.scale,
+            self.rates[0].mul_wide(rates[0]) * self.scale,
+            self.rates[1].mul_wide(rates[1]) * self.scale,
+            self.rates[2].mul_wide(rates[2]) * self.scale,
         ];
+        if !y.iter().all(|v| v.is_finite()) {
+            return Err(Error::OutOfRange);
+        }
         self.solve_rods(y)
     }
 
@@ -109,47 +128,57 @@ impl<S: Real> Jacobian<S> {
     ///
     /// # Errors
     /// [`Error::NonFinite`] for a non-finite force;
-    /// [`Error::NearParallelSingularity`] when `det J_p` is too small, or
-    /// (as for [`Jacobian::cartesian_velocity`]) when a torque would
-    /// overflow the number type, which takes a finite force far beyond any
-    /// machine's (about 1e36 N in f32).
-    pub fn joint_torques(&self, force: [S; 3]) -> Result<[S; 3], Error> {
+    /// [`Error::NearParallelSingularity`] when `det J_p` is too small;
+    /// [`Error::OutOfRange`] when a torque does not fit the number type
+    /// (beyond +-131 N*m for fixed point; for floats only a finite force
+    /// far beyond any machine's, about 1e36 N in f32, gets here or to the
+    /// previous error).
+    pub fn joint_torques(&self, force: [S::Wide; 3]) -> Result<[S::Wide; 3], Error> {
         finite3(force, Input::Force)?;
         let z = self.solve_rods_transposed(force)?;
-        let out =
-            [self.rates[0] * z[0] * self.scale, self.rates[1] * z[1] * self.scale, self.rates[2] * z[2] * self.scale];
-        if out.iter().all(|v| v.is_finite()) { Ok(out) } else { Err(Error::NearParallelSingularity) }
+        let out = [
+            self.rates[0].mul_wide(z[0]) * self.scale,
+            self.rates[1].mul_wide(z[1]) * self.scale,
+            self.rates[2].mul_wide(z[2]) * self.scale,
+        ];
+        if out.iter().all(|v| v.is_finite()) { Ok(out) } else { Err(Error::OutOfRange) }
     }
 
     /// The full Jacobian `J` (mm/rad), `v = J w`, as rows.
     ///
     /// # Errors
-    /// [`Error::NearParallelSingularity`] when `det J_p` is too small.
-    pub fn matrix(&self) -> Result<[[S; 3]; 3], Error> {
-        let c0 = self.cartesian_velocity([S::ONE, S::ZERO, S::ZERO])?;
-        let c1 = self.cartesian_velocity([S::ZERO, S::ONE, S::ZERO])?;
-        let c2 = self.cartesian_velocity([S::ZERO, S::ZERO, S::ONE])?;
+    /// [`Error::NearParallelSingularity`] when `det J_p` is too small;
+    /// [`Error::OutOfRange`] when an entry does not fit the number type.
+    pub fn matrix(&self) -> Result<[[S::Wide; 3]; 3], Error> {
+        let (o, l) = (S::Wide::ZERO, S::Wide::ONE);
+        let c0 = self.cartesian_velocity([l, o, o])?;
+        let c1 = self.cartesian_velocity([o, l, o])?;
+        let c2 = self.cartesian_velocity([o, o, l])?;
         Ok([[c0[0], c1[0], c2[0]], [c0[1], c1[1], c2[1]], [c0[2], c1[2], c2[2]]])
     }
 
     /// Solves `J_p x = y` by Cramer's rule: `x = sum y_i (s_j x s_k) / det`.
-    fn solve_rods(&self, y: [S; 3]) -> Result<[S; 3], Error> {
+    fn solve_rods(&self, y: [S::Wide; 3]) -> Result<[S::Wide; 3], Error> {
         let [r0, r1, r2] = self.rods;
         let inv = S::ONE.checked_div(self.det).ok_or(Error::NearParallelSingularity)?;
         let (a, b, c) = (cross(r1, r2), cross(r2, r0), cross(r0, r1));
         let out = [
-            (y[0] * a[0] + y[1] * b[0] + y[2] * c[0]) * inv,
-            (y[0] * a[1] + y[1] * b[1] + y[2] * c[1]) * inv,
-            (y[0] * a[2] + y[1] * b[2] + y[2] * c[2]) * inv,
+            inv.mul_wide(dot_wide([a[0], b[0], c[0]], y)),
+            inv.mul_wide(dot_wide([a[1], b[1], c[1]], y)),
+            inv.mul_wide(dot_wide([a[2], b[2], c[2]], y)),
         ];
         if out.iter().all(|v| v.is_finite()) { Ok(out) } else { Err(Error::NearParallelSingularity) }
     }
 
     /// Solves `J_p^T z = f`: `z_i = f . (s_j x s_k) / det`.
-    fn solve_rods_transposed(&self, f: [S; 3]) -> Result<[S; 3], Error> {
+    fn solve_rods_transposed(&self, f: [S::Wide; 3]) -> Result<[S::Wide; 3], Error> {
         let [r0, r1, r2] = self.rods;
         let inv = S::ONE.checked_div(self.det).ok_or(Error::NearParallelSingularity)?;
-        let out = [dot(f, cross(r1, r2)) * inv, dot(f, cross(r2, r0)) * inv, dot(f, cross(r0, r1)) * inv];
+        let out = [
+            inv.mul_wide(dot_wide(cross(r1, r2), f)),
+            inv.mul_wide(dot_wide(cross(r2, r0), f)),
+            inv.mul_wide(dot_wide(cross(r0, r1), f)),
+        ];
         if out.iter().all(|v| v.is_finite()) { Ok(out) } else { Err(Error::NearParallelSingularity) }
     }
 }
@@ -160,12 +189,13 @@ mod tests {
 
     #[test]
     fn a_torque_that_would_overflow_is_an_error_not_infinity() {
-        let g = Geometry { base_radius: 160.0_f32, platform_radius: 40.0, upper_arm: 280.0, lower_arm: 720.0 };
+        let g: Geometry<f32> =
+            Geometry { base_radius: 160.0, platform_radius: 40.0, upper_arm: 280.0, lower_arm: 720.0 };
         let robot = Robot::new(g, Limits::uniform(-0.6, 1.5, 0.7, 0.1, 0.1)).unwrap();
         let jac = robot.inverse([0.0, 0.0, -700.0]).unwrap().jacobian;
         // Finite in, finite out for an ordinary force ...
         assert!(jac.joint_torques([0.0, 0.0, -50.0]).unwrap().iter().all(|t| t.is_finite()));
         // ... and an error, not an infinite torque, for a finite but absurd one.
-        assert_eq!(jac.joint_torques([1.0e37, 0.0, 0.0]), Err(Error::NearParallelSingularity));
+        assert_eq!(jac.joint_torques([1.0e37, 0.0, 0.0]), Err(Error::OutOfRange));
     }
 }

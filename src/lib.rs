@@ -25,5 +25,5 @@ mod solve;
 pub use error::{Bound, ConfigFault, Error, Input, JointEnd};
 pub use jacobian::Jacobian;
 pub use robot::{Geometry, Limits, MAX_DIMENSION_MM, MIN_DIMENSION_MM, Robot};
-pub use scalar::{Arith, Real};
+pub use scalar::{Arith, Fixed, FixedWide, Real};
 pub use solution::{Margins, Solution};

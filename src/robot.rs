@@ -9,7 +9,7 @@
 //! type use a narrow, fixed format.
 
 use crate::error::{ConfigFault, Error};
-use crate::scalar::Real;
+use crate::scalar::{Arith, Real};
 
 /// Largest dimension deltakin accepts, in millimetres (100 m). Squares of
 /// positions stay far inside every supported number type.
@@ -22,17 +22,18 @@ pub const MAX_DIMENSION_MM: f64 = 1.0e5;
 pub const MIN_DIMENSION_MM: f64 = 1.0;
 
 /// The four dimensions of a rotary delta robot, in millimetres (see the
-/// conventions in the crate documentation).
+/// conventions in the crate documentation). They are API lengths, so they
+/// take the scalar's [`Arith::Wide`] type (the scalar itself for floats).
 #[derive(Clone, Copy, Debug, PartialEq)]
-pub struct Geometry<S> {
+pub struct Geometry<S: Arith> {
     /// Base centre to each actuator axis, measured radially.
-    pub base_radius: S,
+    pub base_radius: S::Wide,
     /// Platform centre to the axis where a lower arm meets the platform.
-    pub platform_radius: S,
+    pub platform_radius: S::Wide,
     /// Actuator axis to elbow axis.
-    pub upper_arm: S,
+    pub upper_arm: S::Wide,
     /// Elbow axis to platform axis (parallelogram rod length).
-    pub lower_arm: S,
+    pub lower_arm: S::Wide,
 }
 
 /// What the guarded solvers enforce.
@@ -104,12 +105,12 @@ pub(crate) struct ArmConstants<S> {
 /// guard measures the angle between the rod's current direction and each
 /// axis and rejects a pose where either exceeds `passive_cone`.
 #[derive(Clone, Copy, Debug, PartialEq)]
-pub struct Robot<S> {
+pub struct Robot<S: Arith> {
     geometry: Geometry<S>,
     limits: Limits<S>,
     /// Lower arm (mm) and its inverse: the internal length unit.
-    pub(crate) scale: S,
-    pub(crate) inv_scale: S,
+    pub(crate) scale: S::Wide,
+    pub(crate) inv_scale: S::Recip,
     /// Upper arm in lower-arm units, `a < 1`.
     pub(crate) a: S,
     /// `(base_radius - platform_radius)` in lower-arm units.
@@ -142,16 +143,18 @@ impl<S: Real> Geometry<S> {
     /// [`Error::InvalidGeometry`] naming the first failed check.
     pub fn validate(&self) -> Result<(), Error> {
         let dims = [self.base_radius, self.platform_radius, self.upper_arm, self.lower_arm];
-        let max = constant::<S>(MAX_DIMENSION_MM).map_err(Error::InvalidGeometry)?;
-        let min = constant::<S>(MIN_DIMENSION_MM).map_err(Error::InvalidGeometry)?;
+        let min = S::Wide::from_f64(MIN_DIMENSION_MM).ok_or(Error::InvalidGeometry(ConfigFault::Unrepresentable))?;
         if !dims.iter().all(|v| v.is_finite()) {
             return Err(Error::InvalidGeometry(ConfigFault::NonFinite));
         }
-        if !dims.iter().all(|&v| v > S::ZERO) {
+        if !dims.iter().all(|&v| v > S::Wide::ZERO) {
             return Err(Error::InvalidGeometry(ConfigFault::NotPositive));
         }
-        if !dims.iter().all(|&v| v <= max) {
-            return Err(Error::InvalidGeometry(ConfigFault::TooLarge));
+        // A type that cannot represent the maximum holds no larger value.
+        if let Some(max) = S::Wide::from_f64(MAX_DIMENSION_MM) {
+            if !dims.iter().all(|&v| v <= max) {
+                return Err(Error::InvalidGeometry(ConfigFault::TooLarge));
+            }
         }
         if !dims.iter().all(|&v| v >= min) {
             return Err(Error::InvalidGeometry(ConfigFault::TooSmall));
@@ -203,15 +206,22 @@ impl<S: Real> Robot<S> {
     /// # Errors
     /// [`Error::InvalidGeometry`] or [`Error::InvalidLimits`] with the
     /// reason; [`ConfigFault::NeutralPose`] when the lower arm cannot close
-    /// the loop at some arm's neutral pose.
+    /// the loop at some arm's neutral pose;
+    /// [`ConfigFault::Unrepresentable`] when the number type cannot serve
+    /// this geometry (fixed point outside its validated envelope, see
+    /// [`crate::scalar::Fixed`]).
     pub fn new(geometry: Geometry<S>, limits: Limits<S>) -> Result<Self, Error> {
         geometry.validate()?;
         limits.validate()?;
         let geo_fault = Error::InvalidGeometry;
+        let unrepresentable = geo_fault(ConfigFault::Unrepresentable);
         let scale = geometry.lower_arm;
-        let inv_scale = S::ONE.checked_div(scale).ok_or(geo_fault(ConfigFault::Unrepresentable))?;
-        let a = geometry.upper_arm * inv_scale;
-        let d = (geometry.base_radius - geometry.platform_radius) * inv_scale;
+        let inv_scale = S::recip(scale).ok_or(unrepresentable)?;
+        let a = S::mul_recip(geometry.upper_arm, inv_scale);
+        let d = S::mul_recip(geometry.base_radius - geometry.platform_radius, inv_scale);
+        if !(a.is_finite() && d.is_finite() && S::admits_geometry(scale, a, d)) {
+            return Err(unrepresentable);
+        }
         let inv_two_a = S::ONE.checked_div(S::TWO * a).ok_or(geo_fault(ConfigFault::Unrepresentable))?;
         let half_sqrt3 = constant::<S>(0.866_025_403_784_438_6).map_err(geo_fault)?;
         let azimuths = [(S::ONE, S::ZERO), (-S::HALF, half_sqrt3), (-S::HALF, -half_sqrt3)];

@@ -6,7 +6,7 @@ use crate::forward::dot;
 use crate::inverse::ArmState;
 use crate::jacobian::Jacobian;
 use crate::robot::{Robot, to_upper_arm_frame};
-use crate::scalar::Real;
+use crate::scalar::{Arith, Real};
 
 /// How far a pose is from trouble. See [`crate::jacobian`] for the margin
 /// formulas and [`Robot`] for the passive-joint axes.
@@ -32,11 +32,11 @@ pub struct Margins<S> {
 
 /// A solved pose of the robot.
 #[derive(Clone, Copy, Debug, PartialEq)]
-pub struct Solution<S> {
+pub struct Solution<S: Arith> {
     /// Joint angles (rad), arms 0, 1, 2.
     pub joints: [S; 3],
     /// Platform centre (mm), base frame.
-    pub position: [S; 3],
+    pub position: [S::Wide; 3],
     /// Singularity margins and passive-joint tilts at this pose.
     pub margins: Margins<S>,
     /// The Jacobian at this pose, for velocity and force maps.
@@ -46,13 +46,13 @@ pub struct Solution<S> {
 impl<S: Real> Solution<S> {
     /// Assembles a solution from the three arm loops. `position_mm` is the
     /// platform centre in millimetres.
-    pub(crate) fn assemble(robot: &Robot<S>, position_mm: [S; 3], arms: [ArmState<S>; 3]) -> Self {
+    pub(crate) fn assemble(robot: &Robot<S>, position_mm: [S::Wide; 3], arms: [ArmState<S>; 3]) -> Self {
         let mut rods = [[S::ZERO; 3]; 3];
         let mut rates = [S::ZERO; 3];
         let mut serial = [S::ZERO; 3];
         let mut tilt = [[S::ONE; 2]; 3];
         let [_, _, z] = position_mm;
-        let above = z > S::ZERO;
+        let above = z > S::Wide::ZERO;
         let parts = rods.iter_mut().zip(rates.iter_mut()).zip(serial.iter_mut()).zip(tilt.iter_mut());
         for ((((rod_w, rate), margin), tilt), (state, k)) in parts.zip(arms.iter().zip(robot.arms.iter())) {
             let [rx, ry, rz] = state.rod;

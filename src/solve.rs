@@ -10,10 +10,10 @@ use crate::forward;
 use crate::guard;
 use crate::inverse::{self, ArmState};
 use crate::robot::Robot;
-use crate::scalar::Real;
+use crate::scalar::{Arith, Real};
 use crate::solution::Solution;
 
-fn finite3<S: Real>(v: [S; 3], input: Input) -> Result<(), Error> {
+fn finite3<A: Arith>(v: [A; 3], input: Input) -> Result<(), Error> {
     if v.iter().all(|x| x.is_finite()) { Ok(()) } else { Err(Error::NonFinite { input }) }
 }
 
@@ -30,7 +30,7 @@ impl<S: Real> Robot<S> {
     ///
     /// # Panics
     /// Never.
-    pub fn inverse(&self, target: [S; 3]) -> Result<Solution<S>, Error> {
+    pub fn inverse(&self, target: [S::Wide; 3]) -> Result<Solution<S>, Error> {
         let solution = self.inverse_unguarded(target)?;
         guard::check(self, &solution)?;
         Ok(solution)
@@ -63,9 +63,11 @@ impl<S: Real> Robot<S> {
     ///
     /// # Panics
     /// Never.
-    pub fn inverse_unguarded(&self, target: [S; 3]) -> Result<Solution<S>, Error> {
+    pub fn inverse_unguarded(&self, target: [S::Wide; 3]) -> Result<Solution<S>, Error> {
         finite3(target, Input::Position)?;
-        let p = target.map(|v| v * self.inv_scale);
+        // Out of range (fixed point) gives not-a-number, which the
+        // solver reports as unreachable: such a target is beyond reach.
+        let p = target.map(|v| S::mul_recip(v, self.inv_scale));
         let arms = inverse::solve_arms(self, p)?;
         Ok(Solution::assemble(self, target, arms))
     }
@@ -104,18 +106,19 @@ impl<S: Real> Robot<S> {
         let [t0, t1, t2] = joints;
         let [g0, g1, g2] = trig;
         let arms = [state(0, t0, g0), state(1, t1, g1), state(2, t2, g2)];
-        Ok(Solution::assemble(self, p.map(|v| v * self.scale), arms))
+        Ok(Solution::assemble(self, p.map(|v| v.mul_wide(self.scale)), arms))
     }
 }
 
 #[cfg(test)]
 mod tests {
-    use crate::{Error, Geometry, Limits, Robot};
+    use crate::{Arith, Error, Geometry, Limits, Robot};
 
     /// A small test machine (invented numbers).
     fn robot<S: crate::Real>() -> Robot<S> {
         let f = |v: f64| S::from_f64(v).unwrap();
-        let g = Geometry { base_radius: f(180.0), platform_radius: f(45.0), upper_arm: f(300.0), lower_arm: f(750.0) };
+        let w = |v: f64| S::Wide::from_f64(v).unwrap();
+        let g = Geometry { base_radius: w(180.0), platform_radius: w(45.0), upper_arm: w(300.0), lower_arm: w(750.0) };
         let l = Limits::uniform(f(-0.8), f(1.6), f(0.7), f(0.02), f(0.02));
         Robot::new(g, l).unwrap()
     }

@@ -10,7 +10,7 @@ use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 
 use clap::{Args, Parser, Subcommand, ValueEnum};
-use deltakin::{Error, Real, Robot, Solution};
+use deltakin::{Arith, Error, Fixed, FixedWide, Real, Robot, Solution};
 
 use crate::config::{ConfigError, RobotFile};
 use crate::crosscheck;
@@ -130,14 +130,17 @@ pub const DEFAULT_FK_GRID: u16 = 64;
 
 /// The number type `ik` and `fk` compute in.
 ///
-/// A new number type (the fixed-point one) becomes a new variant here, a
-/// [`CliScalar`] implementation below, and one arm in `ScalarKind::dispatch`.
+/// A new number type becomes a new variant here, a [`CliScalar`]
+/// implementation below, and one arm in `ScalarKind::dispatch`.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
 pub enum ScalarKind {
-    /// 32-bit float (the firmware path).
+    /// 32-bit float (the firmware path on parts with an FPU).
     F32,
     /// 64-bit float.
     F64,
+    /// 32-bit fixed point (the firmware path on parts without an FPU):
+    /// `Fixed` inside, `FixedWide` millimetres at the API.
+    Fixed,
 }
 
 /// Something generic over the core's number type, run by
@@ -152,29 +155,41 @@ impl ScalarKind {
         match self {
             ScalarKind::F32 => job.run::<f32>(),
             ScalarKind::F64 => job.run::<f64>(),
+            ScalarKind::Fixed => job.run::<Fixed>(),
         }
     }
 }
 
 /// How the CLI reads numbers into, and prints numbers from, one of the
-/// core's number types.
+/// core's number types: angles in the type itself, lengths in its API
+/// type [`deltakin::Arith::Wide`].
 pub trait CliScalar: Real {
-    /// The value of an input number (already in core units), or the status
-    /// word for a number this type cannot take. Floats keep NaN and
-    /// infinities so the core itself reports them (`non_finite`).
+    /// An input angle (rad), or the status word for a number this type
+    /// cannot take. Floats keep NaN and infinities so the core itself
+    /// reports them (`non_finite`).
     ///
     /// # Errors
     /// The status word to print.
-    fn from_input(v: f64) -> Result<Self, &'static str>;
+    fn angle_in(v: f64) -> Result<Self, &'static str>;
+
+    /// An input length (mm), as [`CliScalar::angle_in`].
+    ///
+    /// # Errors
+    /// The status word to print.
+    fn length_in(v: f64) -> Result<Self::Wide, &'static str>;
 
     /// Prints `v` (an output in CSV units, computed from a value of this
     /// type) with as many digits as this type carries: the shortest text
-    /// that reads back to the same value of this type.
+    /// that reads back to the same value.
     fn print(v: f64) -> String;
 }
 
 impl CliScalar for f64 {
-    fn from_input(v: f64) -> Result<Self, &'static str> {
+    fn angle_in(v: f64) -> Result<Self, &'static str> {
+        Ok(v)
+    }
+
+    fn length_in(v: f64) -> Result<Self, &'static str> {
         Ok(v)
     }
 
@@ -184,16 +199,46 @@ impl CliScalar for f64 {
 }
 
 impl CliScalar for f32 {
-    fn from_input(v: f64) -> Result<Self, &'static str> {
+    fn angle_in(v: f64) -> Result<Self, &'static str> {
         // Rounds to nearest; beyond the f32 range this gives an infinity,
         // which the core reports as non_finite.
         #[allow(clippy::cast_possible_truncation)]
         Ok(v as f32)
     }
 
+    fn length_in(v: f64) -> Result<Self, &'static str> {
+        Self::angle_in(v)
+    }
+
     fn print(v: f64) -> String {
         #[allow(clippy::cast_possible_truncation)]
         let v = v as f32;
+        format!("{v}")
+    }
+}
+
+/// Status word for a finite number outside the fixed-point range.
+pub const OUT_OF_RANGE: &str = "out_of_range";
+
+fn fixed_in<T: Arith>(v: f64) -> Result<T, &'static str> {
+    if !v.is_finite() {
+        return Err("non_finite");
+    }
+    T::from_f64(v).ok_or(OUT_OF_RANGE)
+}
+
+impl CliScalar for Fixed {
+    fn angle_in(v: f64) -> Result<Self, &'static str> {
+        fixed_in(v)
+    }
+
+    fn length_in(v: f64) -> Result<FixedWide, &'static str> {
+        fixed_in(v)
+    }
+
+    fn print(v: f64) -> String {
+        // Every fixed-point value is exactly an f64; its shortest f64 text
+        // reads back to the same fixed-point value.
         format!("{v}")
     }
 }
@@ -246,24 +291,25 @@ impl WithScalar for Batch<'_> {
 
 /// Turns one parsed row (CSV units) into one output row.
 fn solve_row<S: CliScalar>(robot: &Robot<S>, direction: Direction, values: [f64; 3]) -> String {
-    let core_units = match direction {
-        Direction::Inverse => values,
-        Direction::Forward => values.map(f64::to_radians),
-    };
-    let [a, b, c] = core_units.map(S::from_input);
-    let x = match (a, b, c) {
-        (Ok(a), Ok(b), Ok(c)) => [a, b, c],
-        (Err(w), _, _) | (_, Err(w), _) | (_, _, Err(w)) => return format!(",,,{w}"),
-    };
+    fn all3<T>(v: [Result<T, &'static str>; 3]) -> Result<[T; 3], &'static str> {
+        let [a, b, c] = v;
+        Ok([a?, b?, c?])
+    }
     let solved: Result<Solution<S>, Error> = match direction {
-        Direction::Inverse => robot.inverse(x),
-        Direction::Forward => robot.forward(x),
+        Direction::Inverse => match all3(values.map(S::length_in)) {
+            Ok(x) => robot.inverse(x),
+            Err(w) => return format!(",,,{w}"),
+        },
+        Direction::Forward => match all3(values.map(|v| S::angle_in(v.to_radians()))) {
+            Ok(x) => robot.forward(x),
+            Err(w) => return format!(",,,{w}"),
+        },
     };
     match solved {
         Ok(s) => {
             let out = match direction {
                 Direction::Inverse => s.joints.map(|t| t.to_f64().to_degrees()),
-                Direction::Forward => s.position.map(|v| v.to_f64()),
+                Direction::Forward => s.position.map(Arith::to_f64),
             };
             format!("{},{},{},ok", S::print(out[0]), S::print(out[1]), S::print(out[2]))
         }

@@ -17,7 +17,7 @@
 
 use std::path::Path;
 
-use deltakin::{Error, Geometry, Limits, Real, Robot};
+use deltakin::{Arith, Error, Geometry, Limits, Real, Robot};
 use serde::Deserialize;
 
 /// The demo robot, built into the binary (same text as
@@ -161,7 +161,8 @@ impl RobotFile {
     }
 
     /// Builds the robot in scalar type `S`, converting every number from
-    /// f64 (rounding to nearest).
+    /// f64 (rounding to nearest); lengths go to `S::Wide`, the scalar's
+    /// API type for millimetres (`S` itself for floats).
     ///
     /// # Errors
     /// [`ConfigError::Robot`] when a number is not representable in `S` or
@@ -172,12 +173,16 @@ impl RobotFile {
         };
         let g = self.geometry_f64();
         let l = self.limits_f64();
+        let conv_mm = |v: f64| {
+            S::Wide::from_f64(v)
+                .ok_or(ConfigError::Robot(Error::InvalidGeometry(deltakin::ConfigFault::Unrepresentable)))
+        };
         let conv3 = |v: [f64; 3]| -> Result<[S; 3], ConfigError> { Ok([conv(v[0])?, conv(v[1])?, conv(v[2])?]) };
         let geometry = Geometry {
-            base_radius: conv(g.base_radius)?,
-            platform_radius: conv(g.platform_radius)?,
-            upper_arm: conv(g.upper_arm)?,
-            lower_arm: conv(g.lower_arm)?,
+            base_radius: conv_mm(g.base_radius)?,
+            platform_radius: conv_mm(g.platform_radius)?,
+            upper_arm: conv_mm(g.upper_arm)?,
+            lower_arm: conv_mm(g.lower_arm)?,
         };
         let limits = Limits {
             joint_min: conv3(l.joint_min)?,

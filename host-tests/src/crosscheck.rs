@@ -17,7 +17,7 @@
 
 use std::collections::BTreeMap;
 
-use deltakin::{Error, Geometry, Real, Robot, Solution};
+use deltakin::{Arith, Error, Fixed, Geometry, Real, Robot, Solution};
 use serde::Serialize;
 
 use crate::bounds;
@@ -65,7 +65,7 @@ pub struct RobotSummary {
 /// One core's figures over one sweep.
 #[derive(Clone, Debug, Serialize)]
 pub struct ScalarFindings {
-    /// `"f64"` or `"f32"`.
+    /// `"f64"`, `"f32"` or `"fixed"`.
     pub scalar: &'static str,
     /// Error against the reference over the accepted volume, in
     /// [`SweepFindings::error_unit`]; `worst_at` in
@@ -118,7 +118,8 @@ pub struct SweepFindings {
     pub shell_centre: Option<[f64; 3]>,
     /// Swept points the guarded f64 core accepts (grid + shell).
     pub accepted: usize,
-    /// The f64 core, then the f32 core.
+    /// The f64 core, the f32 core, then the fixed-point core when the robot
+    /// lies inside its envelope.
     pub scalars: Vec<ScalarFindings>,
 }
 
@@ -155,39 +156,64 @@ fn margin_sample<S: Real>(s: &Solution<S>) -> MarginSample {
 struct Side {
     status: &'static str,
     margins: Option<MarginSample>,
+    /// The input exactly as this core's number type holds it (core units),
+    /// so the reference is asked the same question; `None` when the type
+    /// cannot hold it or the core is not available.
+    input: Option<[f64; 3]>,
     /// Joint angles (rad) or position (mm), from the guarded solve or,
     /// when the guard rejects, the unguarded one; `None` when both fail.
     output: Option<[f64; 3]>,
 }
 
-fn status_of<S>(r: &Result<Solution<S>, Error>) -> &'static str {
+/// A core that is not in this report (the robot lies outside the number
+/// type's envelope).
+const UNAVAILABLE: Side = Side { status: "unavailable", margins: None, input: None, output: None };
+
+fn status_of<S: Arith>(r: &Result<Solution<S>, Error>) -> &'static str {
     match r {
         Ok(_) => "ok",
         Err(e) => e.status_word(),
     }
 }
 
+fn convert3<T: Arith>(v: [f64; 3]) -> Option<[T; 3]> {
+    Some([T::from_f64(v[0])?, T::from_f64(v[1])?, T::from_f64(v[2])?])
+}
+
+/// The input of one solve in the core's own types: positions are API
+/// lengths (`S::Wide`), joint angles are `S`.
+#[derive(Clone, Copy)]
+enum CoreInput<S: Arith> {
+    Position([S::Wide; 3]),
+    Joints([S; 3]),
+}
+
 fn side<S: Real>(robot: &Robot<S>, kind: Kind, input: [f64; 3]) -> Side {
-    // Sweep inputs are f32-rounded and finite, so this only fails for a
-    // number type with a narrower range.
-    let [a, b, c] = input.map(S::from_f64);
-    let (Some(a), Some(b), Some(c)) = (a, b, c) else {
-        return Side { status: "unrepresentable", margins: None, output: None };
+    // Sweep inputs are f32-rounded and finite, so conversion only fails for
+    // a number type with a narrower range.
+    let unrepresentable = Side { status: "unrepresentable", ..UNAVAILABLE };
+    let x = match kind {
+        Kind::Inverse => convert3::<S::Wide>(input).map(CoreInput::<S>::Position),
+        Kind::Forward => convert3::<S>(input).map(CoreInput::<S>::Joints),
     };
-    let x = [a, b, c];
-    type Solver<S> = fn(&Robot<S>, [S; 3]) -> Result<Solution<S>, Error>;
-    let (guarded, unguarded): (_, Solver<S>) = match kind {
-        Kind::Inverse => (robot.inverse(x), Robot::inverse_unguarded),
-        Kind::Forward => (robot.forward(x), Robot::forward_unguarded),
+    let Some(x) = x else { return unrepresentable };
+    let (exact, guarded) = match x {
+        CoreInput::Position(p) => (p.map(Arith::to_f64), robot.inverse(p)),
+        CoreInput::Joints(t) => (t.map(Arith::to_f64), robot.forward(t)),
     };
     let status = status_of(&guarded);
     let margins = guarded.as_ref().ok().map(margin_sample);
-    let solution = guarded.or_else(|_| unguarded(robot, x)).ok();
+    let solution = guarded
+        .or_else(|_| match x {
+            CoreInput::Position(p) => robot.inverse_unguarded(p),
+            CoreInput::Joints(t) => robot.forward_unguarded(t),
+        })
+        .ok();
     let output = solution.map(|s| match kind {
-        Kind::Inverse => s.joints.map(|v| v.to_f64()),
-        Kind::Forward => s.position.map(|v| v.to_f64()),
+        Kind::Inverse => s.joints.map(Arith::to_f64),
+        Kind::Forward => s.position.map(Arith::to_f64),
     });
-    Side { status, margins, output }
+    Side { status, margins, input: Some(exact), output }
 }
 
 /// Outcome of comparing one core with the reference at one point.
@@ -207,18 +233,23 @@ fn error_between(kind: Kind, core: [f64; 3], reference: [f64; 3]) -> f64 {
     }
 }
 
-/// Both cores at one input.
+/// The number types a report covers, in table order.
+pub const SCALAR_NAMES: [&str; 3] = ["f64", "f32", "fixed"];
+
+/// Every core at one input.
 #[derive(Clone, Copy, Debug)]
 struct Sample {
-    sides: [Side; 2],
-    outcomes: [Outcome; 2],
+    sides: [Side; 3],
+    outcomes: [Outcome; 3],
 }
 
 struct Setup {
     r64: Robot<f64>,
     r32: Robot<f32>,
-    g64: Geometry<f64>,
-    g32: Geometry<f64>,
+    /// `None` when the robot lies outside the fixed-point envelope.
+    rfx: Option<Robot<Fixed>>,
+    /// Each core's dimensions exactly as its number type holds them.
+    geometries: [Geometry<f64>; 3],
 }
 
 fn reference_solve(kind: Kind, g: &Geometry<f64>, input: [f64; 3]) -> Option<[f64; 3]> {
@@ -229,19 +260,36 @@ fn reference_solve(kind: Kind, g: &Geometry<f64>, input: [f64; 3]) -> Option<[f6
 }
 
 fn sample(setup: &Setup, kind: Kind, input: [f64; 3]) -> Sample {
-    let sides = [side(&setup.r64, kind, input), side(&setup.r32, kind, input)];
+    let sides = [
+        side(&setup.r64, kind, input),
+        side(&setup.r32, kind, input),
+        setup.rfx.as_ref().map_or(UNAVAILABLE, |r| side(r, kind, input)),
+    ];
     if sides[0].status != "ok" {
-        return Sample { sides, outcomes: [Outcome::NotAccepted; 2] };
+        return Sample { sides, outcomes: [Outcome::NotAccepted; 3] };
     }
-    let ref64 = reference_solve(kind, &setup.g64, input);
-    // The f32 robot's dimensions, exactly; usually identical to the f64 ones.
-    let ref32 = if setup.g32 == setup.g64 { ref64 } else { reference_solve(kind, &setup.g32, input) };
-    let outcome = |core: Option<[f64; 3]>, reference: Option<[f64; 3]>| match (core, reference) {
-        (_, None) => Outcome::ReferenceFailed,
-        (None, Some(_)) => Outcome::CoreFailed,
-        (Some(c), Some(r)) => Outcome::Measured(error_between(kind, c, r)),
-    };
-    Sample { sides, outcomes: [outcome(sides[0].output, ref64), outcome(sides[1].output, ref32)] }
+    // The reference answers each core's own question (its dimensions and
+    // its input, exactly as held); identical questions are asked once.
+    let mut asked: Vec<((Geometry<f64>, [f64; 3]), Option<[f64; 3]>)> = Vec::with_capacity(3);
+    let mut outcomes = [Outcome::NotAccepted; 3];
+    for ((side, g), outcome) in sides.iter().zip(setup.geometries.iter()).zip(outcomes.iter_mut()) {
+        let Some(exact) = side.input else { continue };
+        let key = (*g, exact);
+        let reference = match asked.iter().find(|(k, _)| *k == key) {
+            Some(&(_, r)) => r,
+            None => {
+                let r = reference_solve(kind, g, exact);
+                asked.push((key, r));
+                r
+            }
+        };
+        *outcome = match (side.output, reference) {
+            (_, None) => Outcome::ReferenceFailed,
+            (None, Some(_)) => Outcome::CoreFailed,
+            (Some(c), Some(r)) => Outcome::Measured(error_between(kind, c, r)),
+        };
+    }
+    Sample { sides, outcomes }
 }
 
 fn geometry_as_f64<S: Real>(g: &Geometry<S>) -> Geometry<f64> {
@@ -266,14 +314,18 @@ fn aggregate(kind: Kind, points: &PointSet, samples: &[Sample], inputs: &[[f64; 
     let (input_unit, to_input, error_unit, to_error) = units(kind);
     let show = |p: [f64; 3]| p.map(|v| v * to_input);
     let accepted = samples.iter().filter(|s| s.sides[0].status == "ok").count();
-    let names = ["f64", "f32"];
     let bound_of = |i: usize| match (kind, i) {
         (Kind::Inverse, 0) => (bounds::F64_JOINT_ERR_RAD, "F64_JOINT_ERR_RAD"),
-        (Kind::Inverse, _) => (bounds::F32_JOINT_ERR_RAD, "F32_JOINT_ERR_RAD"),
+        (Kind::Inverse, 1) => (bounds::F32_JOINT_ERR_RAD, "F32_JOINT_ERR_RAD"),
+        (Kind::Inverse, _) => (bounds::FIXED_JOINT_ERR_RAD, "FIXED_JOINT_ERR_RAD"),
         (Kind::Forward, 0) => (bounds::F64_POS_ERR_MM, "F64_POS_ERR_MM"),
-        (Kind::Forward, _) => (bounds::F32_POS_ERR_MM, "F32_POS_ERR_MM"),
+        (Kind::Forward, 1) => (bounds::F32_POS_ERR_MM, "F32_POS_ERR_MM"),
+        (Kind::Forward, _) => (bounds::FIXED_POS_ERR_MM, "FIXED_POS_ERR_MM"),
     };
-    let scalars = (0..2)
+    // A core that is unavailable for this robot has no column.
+    let present: Vec<usize> = (0..3).filter(|&i| samples.iter().all(|s| s.sides[i].status != "unavailable")).collect();
+    let scalars = present
+        .into_iter()
         .map(|i| {
             let mut errors = Vec::with_capacity(accepted);
             let (mut reference_failed, mut core_failed, mut rejected, mut extra) = (0, 0, 0, 0);
@@ -301,7 +353,7 @@ fn aggregate(kind: Kind, points: &PointSet, samples: &[Sample], inputs: &[[f64; 
             }
             let (bound, bound_name) = bound_of(i);
             ScalarFindings {
-                scalar: names[i],
+                scalar: SCALAR_NAMES[i],
                 error: stats::summarize(&errors),
                 bound: bound * to_error,
                 bound_name,
@@ -385,7 +437,14 @@ pub type SetupError = crate::config::ConfigError;
 pub fn run(file: &RobotFile, builtin_demo: bool, ik: Density, fk: Density) -> Result<Findings, SetupError> {
     let r64 = file.robot::<f64>()?;
     let r32 = file.robot::<f32>()?;
-    let setup = Setup { g64: *r64.geometry(), g32: geometry_as_f64(r32.geometry()), r64, r32 };
+    // Outside the fixed-point envelope the report covers the floats only.
+    let rfx = file.robot::<Fixed>().ok();
+    let geometries = [
+        *r64.geometry(),
+        geometry_as_f64(r32.geometry()),
+        rfx.as_ref().map_or(*r64.geometry(), |r| geometry_as_f64(r.geometry())),
+    ];
+    let setup = Setup { geometries, r64, r32, rfx };
     let g = &file.geometry;
     let l = &file.limits;
     let robot = RobotSummary {

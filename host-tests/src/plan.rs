@@ -441,7 +441,7 @@ pub const CSV_HEADER: &str =
 /// # Errors
 /// See [`PlanError`]: a move refused (with its index and the first
 /// offending time within it), the robot, the rate, or the output.
-pub fn run_with<S: Real>(
+pub fn run_with<S: Real<Wide = S>>(
     robot_file: &RobotFile,
     moves: &MovesFile,
     rate_hz: f64,

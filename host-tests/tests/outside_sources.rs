@@ -50,7 +50,7 @@ fn williams_2016_worked_example_inverse_kinematics() {
     let g = williams_geometry();
     let r64 = Robot::new(g, open_limits()).expect("valid machine");
     #[allow(clippy::cast_possible_truncation)]
-    let g32 = Geometry {
+    let g32: Geometry<f32> = Geometry {
         base_radius: g.base_radius as f32,
         platform_radius: g.platform_radius as f32,
         upper_arm: g.upper_arm as f32,

@@ -390,7 +390,7 @@ fn velocity_and_force_maps_are_consistent() {
 }
 
 /// A fixed machine and a solved pose for the argument tests.
-fn fixed<S: deltakin::Real>() -> (Robot<S>, Solution<S>) {
+fn fixed<S: deltakin::Real<Wide = S>>() -> (Robot<S>, Solution<S>) {
     let file = deltakin_harness::config::RobotFile::demo();
     let robot = file.robot::<S>().expect("demo robot");
     let p = [20.0, -30.0, -650.0].map(|v| S::from_f64(v).expect("small"));
@@ -399,7 +399,7 @@ fn fixed<S: deltakin::Real>() -> (Robot<S>, Solution<S>) {
 }
 
 /// Every public entry point called with `v` as its argument.
-fn all_entry_points<S: deltakin::Real>(
+fn all_entry_points<S: deltakin::Real<Wide = S>>(
     robot: &Robot<S>,
     sol: &Solution<S>,
     v: [S; 3],
@@ -416,7 +416,7 @@ fn all_entry_points<S: deltakin::Real>(
     ]
 }
 
-fn non_finite_everywhere<S: deltakin::Real>(finite: [f64; 3], bad: [S; 3]) -> Result<(), TestCaseError> {
+fn non_finite_everywhere<S: deltakin::Real<Wide = S>>(finite: [f64; 3], bad: [S; 3]) -> Result<(), TestCaseError> {
     let (robot, sol) = fixed::<S>();
     let base = finite.map(|v| S::from_f64(v).expect("finite and small"));
     for slot in 0..3 {
@@ -441,7 +441,7 @@ fn every_non_finite_argument_is_an_error() {
 
 /// Runs every entry point on `v`, and the Jacobian maps of any pose that
 /// solves; demands finite numbers in every `Ok`.
-fn no_panic_and_no_silent_garbage<S: deltakin::Real>(v: [S; 3]) -> Result<(), TestCaseError> {
+fn no_panic_and_no_silent_garbage<S: deltakin::Real<Wide = S>>(v: [S; 3]) -> Result<(), TestCaseError> {
     let (robot, sol) = fixed::<S>();
     let finite = |x: &[S; 3]| x.iter().all(|v| v.is_finite());
     let mut solutions = vec![sol];

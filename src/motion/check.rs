@@ -103,7 +103,11 @@ struct Scan<S> {
 }
 
 /// Samples every cycle of `mv`.
-fn scan<S: Real>(robot: &Robot<S>, checker: &Checker<S>, mv: &PlannedMove<S>) -> Result<Scan<S>, MotionError> {
+fn scan<S: Real<Wide = S>>(
+    robot: &Robot<S>,
+    checker: &Checker<S>,
+    mv: &PlannedMove<S>,
+) -> Result<Scan<S>, MotionError> {
     let mut out = Scan { speed: S::ZERO, accel: S::ZERO, first_over: None, last: None };
     let mut prev = [S::ZERO; 3];
     let mut k = S::ZERO;
@@ -134,7 +138,12 @@ fn scan<S: Real>(robot: &Robot<S>, checker: &Checker<S>, mv: &PlannedMove<S>) ->
 }
 
 /// The move `shaped` stretched in time by `stretch`, with its cycle count.
-fn stretched<S: Real>(shaped: &Shaped<S>, start: [S; 3], period: S, stretch: S) -> Result<PlannedMove<S>, MotionError> {
+fn stretched<S: Real<Wide = S>>(
+    shaped: &Shaped<S>,
+    start: [S; 3],
+    period: S,
+    stretch: S,
+) -> Result<PlannedMove<S>, MotionError> {
     let inv_stretch = div(S::ONE, stretch)?;
     let law_dt = period * inv_stretch;
     let ratio = shaped.profile.duration().to_f64() / law_dt.to_f64();
@@ -166,7 +175,7 @@ fn stretched<S: Real>(shaped: &Shaped<S>, start: [S; 3], period: S, stretch: S) 
 
 /// Plans and validates `mv` from `start` (mm) with joint angles
 /// `start_joints` (rad), time scaling it when needed.
-pub(crate) fn plan<S: Real>(
+pub(crate) fn plan<S: Real<Wide = S>>(
     robot: &Robot<S>,
     checker: &Checker<S>,
     mv: &Move<S>,

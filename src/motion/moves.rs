@@ -97,7 +97,7 @@ pub struct PlannedMove<S> {
     pub(crate) accel_usage: S,
 }
 
-impl<S: Real> PlannedMove<S> {
+impl<S: Real<Wide = S>> PlannedMove<S> {
     /// Number of cycles the move lasts.
     #[must_use]
     pub const fn cycles(&self) -> u32 {
@@ -210,7 +210,11 @@ pub(crate) struct Shaped<S> {
 /// Builds the path and time law of `mv` from `start` (mm), whose joint
 /// angles are `start_joints` (rad). For a joint move `end` is the start;
 /// the validation replaces it with the solved end point.
-pub(crate) fn shape<S: Real>(mv: &Move<S>, start: [S; 3], start_joints: [S; 3]) -> Result<Shaped<S>, MotionError> {
+pub(crate) fn shape<S: Real<Wide = S>>(
+    mv: &Move<S>,
+    start: [S; 3],
+    start_joints: [S; 3],
+) -> Result<Shaped<S>, MotionError> {
     match *mv {
         Move::Line { to, law, bounds } => {
             let to = finite3(to)?;

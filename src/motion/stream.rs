@@ -52,7 +52,7 @@ pub struct StreamSetpoint<S> {
 /// cycle rounds its two corners with arcs and runs one time law over the
 /// whole path.
 #[derive(Clone, Debug)]
-pub struct Stream<S, const N: usize> {
+pub struct Stream<S: crate::scalar::Arith, const N: usize> {
     robot: Robot<S>,
     checker: Checker<S>,
     queue: Deque<(u32, PlannedMove<S>), N>,
@@ -68,7 +68,7 @@ pub struct Stream<S, const N: usize> {
     next_id: u32,
 }
 
-impl<S: Real, const N: usize> Stream<S, N> {
+impl<S: Real<Wide = S>, const N: usize> Stream<S, N> {
     /// A stream at rest at `start` (mm), emitting one setpoint every
     /// `period` seconds and keeping joint speeds and accelerations inside
     /// `limits`.

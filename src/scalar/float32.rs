@@ -152,6 +152,28 @@ impl Arith for f32 {
     const TWO: Self = 2.0;
     const HALF: Self = 0.5;
     const PI: Self = core::f32::consts::PI;
+    type Wide = Self;
+    type Recip = Self;
+
+    #[inline]
+    fn mul_wide(self, w: Self) -> Self {
+        self * w
+    }
+
+    #[inline]
+    fn recip(den: Self) -> Option<Self> {
+        Self::ONE.checked_div(den)
+    }
+
+    #[inline]
+    fn mul_recip(num: Self, r: Self) -> Self {
+        num * r
+    }
+
+    #[inline]
+    fn admits_geometry(_lower_arm: Self, _a: Self, _d: Self) -> bool {
+        true
+    }
 
     #[inline]
     fn abs(self) -> Self {

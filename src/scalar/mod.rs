@@ -9,13 +9,32 @@
 //! * [`Real`] adds the only transcendental functions the solvers need:
 //!   square root, two-argument arc tangent and a joint sine/cosine.
 //!
-//! A fixed-point type can implement both honestly: nothing here needs NaN,
-//! infinity or a float exponent.
+//! A fixed-point type can implement both honestly: nothing here needs a
+//! float exponent, and "not a number" is whatever value the type reserves
+//! for a failed operation (see [`Fixed`]).
+//!
+//! # Two kinds of quantity at the API
+//! The solvers work in lengths normalised by the lower arm (see
+//! `robot.rs`): every internal value is of order one. The API, though,
+//! speaks millimetres (up to a few thousand), mm/s, rad/s, newtons and
+//! N*mm. A float covers both ranges; a 32-bit fixed-point number cannot
+//! cover both with the resolution the solvers need. So [`Arith`] names a
+//! second type, [`Arith::Wide`], for every API quantity with a physical
+//! unit other than the radian, and three small hooks convert between the
+//! two at the edges ([`Arith::mul_wide`], [`Arith::recip`],
+//! [`Arith::mul_recip`]). For `f32` and `f64`, `Wide` is the type itself
+//! and the hooks are the plain operations the solvers used before, in the
+//! same order, so float results are bit for bit what they were.
 //!
 //! This is the only module that knows how a number is stored.
 
+mod cordic;
+mod fixed;
 mod float32;
 mod float64;
+
+pub use cordic::{ATAN2_MAX_ERROR_LSB, SIN_COS_MAX_ERROR_LSB, SQRT_MAX_ERROR_LSB};
+pub use fixed::{Fixed, FixedRecip, FixedWide, MAX_COUNTS_PER_REV};
 
 pub use float32::{SIN_COS_F32_MAX_ABS_ERROR, SIN_COS_F32_VALID_RANGE, SQRT_F32_MAX_REL_ERROR};
 pub use float32::{sin_cos_f32, sqrt_f32};
@@ -49,6 +68,40 @@ pub trait Arith:
     const HALF: Self;
     /// pi.
     const PI: Self;
+
+    /// The type of API quantities with a physical unit other than the
+    /// radian: lengths (mm), velocities (mm/s), joint rates (rad/s),
+    /// forces (N), torques (N*mm). `Self` for floats; a wider-range format
+    /// for fixed point ([`FixedWide`] for [`Fixed`]).
+    type Wide: Arith;
+
+    /// A precomputed reciprocal of a [`Arith::Wide`] value (the lower arm),
+    /// so that converting millimetres to internal units needs no division.
+    type Recip: Copy + Debug + PartialEq + Send + Sync + 'static;
+
+    /// `self * w`, an internal value times an API quantity, as an API
+    /// quantity. Not a number (for fixed point: the reserved value) when
+    /// the product is out of range.
+    #[must_use]
+    fn mul_wide(self, w: Self::Wide) -> Self::Wide;
+
+    /// The reciprocal of `den`, for [`Arith::mul_recip`]; `None` when it is
+    /// not representable (zero, or outside the type's validated range).
+    #[must_use]
+    fn recip(den: Self::Wide) -> Option<Self::Recip>;
+
+    /// `num / den` as an internal value, with `r = recip(den)`. Not a
+    /// number when the quotient is out of range.
+    #[must_use]
+    fn mul_recip(num: Self::Wide, r: Self::Recip) -> Self;
+
+    /// Whether every intermediate value of the solvers provably fits this
+    /// type for a robot whose lower arm is `lower_arm` (API units), whose
+    /// upper arm is `a` and whose base-minus-platform radius is `d` (both
+    /// in lower-arm units). Always `true` for floats; fixed point checks
+    /// its validated envelope (see [`Fixed`]).
+    #[must_use]
+    fn admits_geometry(lower_arm: Self::Wide, a: Self, d: Self) -> bool;
 
     /// Absolute value. For a bounded integer representation the most
     /// negative value saturates to the most positive one.

@@ -1,0 +1,683 @@
+//! Fixed point for microcontrollers without a floating-point unit.
+//!
+//! Two 32-bit formats, each a signed `i32` with `i32::MIN` reserved as
+//! "not a number" (NaN): the symmetric range is `[-(2^31 - 1), 2^31 - 1]`
+//! LSBs.
+//!
+//! | type | format | range | LSB | used for |
+//! |---|---|---|---|---|
+//! | [`Fixed`] | Q7.25 | +-64 | 2.98e-8 | the solvers' internal values (lower-arm units), angles (rad), margins |
+//! | [`FixedWide`] | Q18.14 | +-131 072 | 6.10e-5 | API quantities: mm, mm/s, rad/s, N, N*mm |
+//!
+//! # Why two formats (the decision)
+//! Inside, deltakin works in lengths normalised by the lower arm (see
+//! `robot.rs`), so its values are of order one; at the API it takes and
+//! returns millimetres, up to a few thousand. One 32-bit format cannot do
+//! both: holding 8000 mm needs 14 integer bits, which leaves 17 fraction
+//! bits, an LSB of 7.6e-6 lower arms, and the angle target (5 urad) would
+//! be lost to rounding in the first product. So the scalar trait names a
+//! second type, [`crate::Arith::Wide`], for API quantities with a physical
+//! unit, and converts at the edges with three hooks; floats set
+//! `Wide = Self` and keep their results bit for bit. Only the edges change:
+//! the solvers, guards and Jacobian stay generic.
+//!
+//! # Range analysis (why Q7.25 for the internal type)
+//! In lower-arm units write `a` for the upper arm, `d` for
+//! `base_radius - platform_radius`, and `R = sqrt((|d| + a)^2 + a^2)`, the
+//! largest distance of a forward-kinematics sphere centre from the origin.
+//! The largest intermediate values are:
+//!
+//! * inverse kinematics: the arm-plane point is within `1 + a < 2` of the
+//!   actuator axis for any reachable target, so squares and their sum stay
+//!   below 4, `|K| <= rho <= 2`, and the numerators of `cos`/`sin` below 4;
+//! * forward kinematics: centre differences `|u|, |v| <= 2R`; `|n| = |u x v|`
+//!   is twice the centre triangle's area, at most `(3 sqrt3 / 2) R^2`;
+//!   `|u|^2 |v x n|` is at most `4 R^2 * 2R * 2.6 R^2 = 20.8 R^5`, the
+//!   largest product, and the circumcentre numerator is `2 |n|^2 r_c <=
+//!   13.5 R^4` at any pose that assembles.
+//!
+//! The envelope demands `R <= 1.25` ([`Fixed::ENVELOPE_MAX_R`]), so every
+//! value stays below `20.8 * 1.25^5 = 63.5 < 64`: seven integer bits (sign
+//! included) suffice, and the 25 fraction bits left give the resolution.
+//! Q8.24 with `R <= 1.4` was tried first; its rounding left the forward
+//! kinematics of a 2000 mm arm at 5.0 um worst case, on the target, so one
+//! integer bit went back to resolution. The envelope covers upper arms up
+//! to 0.7 of the lower arm with `d` up to 0.33 of it, or 0.6 with `d` up to
+//! 0.5: the ratios of practical rotary deltas (lower/upper of 1.5 to 3.5). Outside the proven range the operations are checked
+//! (below), so an out-of-envelope input gives an error, never a wrapped
+//! value.
+//!
+//! # Resolution for a 1 m class robot (lower arm 1000 mm)
+//! * Q7.25 internal length: 2.98e-8 lower arms = 0.03 um; angle: 0.03 urad.
+//! * Q18.14 API length: 6.1e-5 mm = 0.061 um; its range +-131 m covers
+//!   positions, velocities to 131 m/s and torques to 131 N*m.
+//! * Measured worst case against the independent f64 reference (host
+//!   tests, `host-tests/tests/fixed_point.rs`, lower arms 200-2000 mm,
+//!   9915 guarded poses of 25 geometries plus random ones): joint angle
+//!   1.07 urad, platform position 3.5 um (at the 2000 mm arm; the error
+//!   in lower-arm units is below 1.8e-6, so it scales with the arm).
+//!
+//! # Overflow policy
+//! Every operator is checked and never panics: `+`, `-`, `*` (64-bit
+//! product, rounded to nearest, ties towards +inf), unary `-`, `abs` and
+//! [`crate::Arith::checked_div`] return NaN when the exact result is out of
+//! range or an operand is NaN. NaN compares unordered (like a float NaN),
+//! `is_finite` is `false` for it, and the generic solvers already turn a
+//! non-finite value or a failed comparison into an [`crate::Error`]. No
+//! operation wraps or saturates silently. Within the validated envelope
+//! the range analysis above shows that no NaN arises from overflow.
+//!
+//! # Conversions at the edges (rounding rule)
+//! Every constructor rounds to the nearest representable value, ties away
+//! from zero, and returns `None` (never a wrapped value) when the result
+//! is outside the range; see each function. Back-conversions to integers
+//! round the same way; conversions to `f32` round to nearest-even (the
+//! `as` rule) and map NaN to `f32::NAN`.
+
+use core::cmp::Ordering;
+use core::ops::{Add, Mul, Neg, Sub};
+
+use super::cordic::{self, FRAC, NAN};
+use super::{Arith, Real};
+
+/// Q7.25 fixed point: the internal scalar of the fixed-point path. See the
+/// module documentation for the format, the range analysis and the
+/// overflow policy. `Robot<Fixed>` takes lengths as [`FixedWide`].
+#[derive(Clone, Copy, Debug)]
+pub struct Fixed(i32);
+
+/// Q18.14 fixed point: API quantities of the fixed-point path
+/// (millimetres, mm/s, rad/s, newtons, N*mm). Same overflow policy as
+/// [`Fixed`].
+#[derive(Clone, Copy, Debug)]
+pub struct FixedWide(i32);
+
+/// A normalised reciprocal of a positive [`FixedWide`] value `D` (raw):
+/// `m = round(2^(k + 30) / D)` with `k` the bit length of `D`, so
+/// `2^30 <= m <= 2^31`; a quotient is then one 64-bit product and a shift.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct FixedRecip {
+    m: i64,
+    k: u32,
+}
+
+const WIDE_FRAC: u32 = 14;
+const ONE_RAW: i32 = 1 << FRAC;
+const WIDE_ONE_RAW: i32 = 1 << WIDE_FRAC;
+
+/// `raw` as an `i32` value, or NaN when outside `(i32::MIN, i32::MAX]`.
+#[inline]
+fn narrow(raw: i64) -> i32 {
+    if raw > i64::from(i32::MAX) || raw <= i64::from(i32::MIN) {
+        NAN
+    } else {
+        #[allow(clippy::cast_possible_truncation)] // range checked above
+        let v = raw as i32;
+        v
+    }
+}
+
+/// `(p + 2^(s-1)) >> s`: a shift rounding to nearest, ties towards +inf.
+/// `s` is 1..=62 at every call site, and `|p| < 2^62` there.
+#[inline]
+fn shift_round(p: i64, s: u32) -> i64 {
+    (p + (1i64 << (s - 1))) >> s
+}
+
+/// `n / d` rounded to nearest, ties away from zero; `d > 0`.
+#[inline]
+fn div_round(n: i64, d: i64) -> i64 {
+    let half = d / 2;
+    if n >= 0 { (n + half) / d } else { (n - half) / d }
+}
+
+/// Shared operator bodies for both formats (`F` fraction bits).
+#[inline]
+fn add_raw(a: i32, b: i32) -> i32 {
+    if a == NAN || b == NAN { NAN } else { narrow(i64::from(a) + i64::from(b)) }
+}
+
+#[inline]
+fn sub_raw(a: i32, b: i32) -> i32 {
+    if a == NAN || b == NAN { NAN } else { narrow(i64::from(a) - i64::from(b)) }
+}
+
+/// `a * b >> shift`, rounded; `|a * b| < 2^62`.
+#[inline]
+fn mul_raw(a: i32, b: i32, shift: u32) -> i32 {
+    if a == NAN || b == NAN { NAN } else { narrow(shift_round(i64::from(a) * i64::from(b), shift)) }
+}
+
+/// `(a << frac) / b`, rounded, or `None`.
+#[inline]
+fn div_raw(a: i32, b: i32, frac: u32) -> Option<i32> {
+    if a == NAN || b == NAN || b == 0 {
+        return None;
+    }
+    // |a << frac| < 2^55; |b| < 2^31.
+    let (n, d) = (i64::from(a) << frac, i64::from(b));
+    let q = if d > 0 { div_round(n, d) } else { div_round(-n, -d) };
+    let q = narrow(q);
+    if q == NAN { None } else { Some(q) }
+}
+
+/// `round(v * 2^frac)` or `None` when not finite or out of range.
+fn from_f64_raw(v: f64, frac: u32) -> Option<i32> {
+    // libm::round: ties away from zero.
+    let s = libm::round(v * f64::from(1u32 << frac));
+    if !(libm::fabs(s) <= f64::from(i32::MAX)) {
+        return None;
+    }
+    // An integer within the i32 range: the conversion is exact.
+    #[allow(clippy::cast_possible_truncation)]
+    let r = s as i32;
+    Some(r)
+}
+
+fn to_f64_raw(raw: i32, frac: u32) -> f64 {
+    if raw == NAN { f64::NAN } else { f64::from(raw) / f64::from(1u32 << frac) }
+}
+
+fn cmp_raw(a: i32, b: i32) -> Option<Ordering> {
+    if a == NAN || b == NAN { None } else { Some(a.cmp(&b)) }
+}
+
+macro_rules! impl_ops {
+    ($t:ident, $frac:expr) => {
+        impl PartialEq for $t {
+            #[inline]
+            fn eq(&self, other: &Self) -> bool {
+                self.0 != NAN && self.0 == other.0
+            }
+        }
+
+        impl PartialOrd for $t {
+            #[inline]
+            fn partial_cmp(&self, other: &Self) -> Option<Ordering> {
+                cmp_raw(self.0, other.0)
+            }
+        }
+
+        impl Add for $t {
+            type Output = Self;
+            #[inline]
+            fn add(self, rhs: Self) -> Self {
+                Self(add_raw(self.0, rhs.0))
+            }
+        }
+
+        impl Sub for $t {
+            type Output = Self;
+            #[inline]
+            fn sub(self, rhs: Self) -> Self {
+                Self(sub_raw(self.0, rhs.0))
+            }
+        }
+
+        impl Mul for $t {
+            type Output = Self;
+            #[inline]
+            fn mul(self, rhs: Self) -> Self {
+                Self(mul_raw(self.0, rhs.0, $frac))
+            }
+        }
+
+        impl Neg for $t {
+            type Output = Self;
+            #[inline]
+            fn neg(self) -> Self {
+                // NaN stays NaN; every other value has a negation.
+                Self(if self.0 == NAN { NAN } else { -self.0 })
+            }
+        }
+
+        impl $t {
+            /// Not a number: the reserved raw value `i32::MIN`, the result
+            /// of any failed operation.
+            pub const NAN: Self = Self(NAN);
+            /// The largest value.
+            pub const MAX: Self = Self(i32::MAX);
+
+            /// The value with raw bits `raw` (`raw / 2^fraction_bits`).
+            #[must_use]
+            pub const fn from_raw(raw: i32) -> Self {
+                Self(raw)
+            }
+
+            /// The raw bits.
+            #[must_use]
+            pub const fn to_raw(self) -> i32 {
+                self.0
+            }
+
+            /// From `f32`, rounded to nearest (ties away from zero);
+            /// `None` for a non-finite or out-of-range value.
+            #[must_use]
+            pub fn from_f32(v: f32) -> Option<Self> {
+                from_f64_raw(f64::from(v), $frac).map(Self)
+            }
+
+            /// To `f32`, rounded to nearest-even; NaN maps to `f32::NAN`.
+            #[must_use]
+            pub fn to_f32(self) -> f32 {
+                if self.0 == NAN {
+                    f32::NAN
+                } else {
+                    #[allow(clippy::cast_precision_loss)]
+                    let v = self.0 as f32;
+                    v / (1u32 << $frac) as f32
+                }
+            }
+
+            /// `round(v * 2^frac / per_unit)`, or `None` out of range.
+            #[inline]
+            fn scaled_int(v: i64, per_unit: i64) -> Option<Self> {
+                // v * 2^frac / per_unit, rounded; |v| < 2^31, so the
+                // numerator is below 2^55.
+                let q = narrow(div_round(v << $frac, per_unit));
+                if q == NAN { None } else { Some(Self(q)) }
+            }
+
+            #[inline]
+            fn to_scaled_int(self, per_unit: i64) -> Option<i32> {
+                if self.0 == NAN {
+                    return None;
+                }
+                // |raw| * per_unit < 2^31 * 2^20 = 2^51.
+                let v = div_round(i64::from(self.0) * per_unit, 1i64 << $frac);
+                let v = narrow(v);
+                if v == NAN { None } else { Some(v) }
+            }
+        }
+    };
+}
+
+impl_ops!(Fixed, FRAC);
+impl_ops!(FixedWide, WIDE_FRAC);
+
+impl FixedWide {
+    /// From whole millimetres; `None` beyond +-131 071 mm. Exact.
+    #[must_use]
+    pub const fn from_mm(mm: i32) -> Option<Self> {
+        if mm > 131_071 || mm < -131_071 { None } else { Some(Self(mm << WIDE_FRAC)) }
+    }
+
+    /// From whole micrometres, rounded to nearest (ties away from zero;
+    /// error at most half an LSB, 0.03 um); `None` beyond +-131 071 mm.
+    #[must_use]
+    pub fn from_um(um: i32) -> Option<Self> {
+        Self::scaled_int(i64::from(um), 1000)
+    }
+
+    /// To whole millimetres, rounded to nearest (ties away from zero);
+    /// `None` for NaN.
+    #[must_use]
+    pub fn to_mm(self) -> Option<i32> {
+        self.to_scaled_int(1)
+    }
+
+    /// To whole micrometres, rounded to nearest (ties away from zero);
+    /// `None` for NaN. Never out of range (131 071 mm = 1.3e8 um).
+    #[must_use]
+    pub fn to_um(self) -> Option<i32> {
+        self.to_scaled_int(1000)
+    }
+}
+
+/// Largest counts per revolution accepted by the encoder conversions
+/// (2^24, keeping every product inside 64 bits).
+pub const MAX_COUNTS_PER_REV: u32 = 1 << 24;
+
+/// 2 pi in Q.32 (`round(2 pi * 2^32)`), for the encoder conversions.
+const TWO_PI_Q32: i64 = 26_986_075_409;
+
+impl Fixed {
+    /// Largest `R = sqrt((|d| + a)^2 + a^2)` (lower-arm units) of the
+    /// validated envelope; see the module documentation.
+    pub const ENVELOPE_MAX_R: f64 = 1.25;
+    /// Smallest upper arm of the envelope, in lower-arm units (keeps
+    /// `1 / (2a)` at most 2.5).
+    pub const ENVELOPE_MIN_A: f64 = 0.2;
+    /// Shortest lower arm of the envelope (mm).
+    pub const ENVELOPE_MIN_LOWER_ARM_MM: i32 = 50;
+    /// Longest lower arm of the envelope (mm). Targets are then at most
+    /// `131 071 / 4000 = 32` lower arms away, inside the Q7.25 range, and
+    /// internal lengths keep 0.12 um resolution.
+    pub const ENVELOPE_MAX_LOWER_ARM_MM: i32 = 4000;
+
+    /// From whole microradians, rounded to nearest (ties away from zero);
+    /// `None` beyond +-64 rad.
+    #[must_use]
+    pub fn from_urad(urad: i32) -> Option<Self> {
+        Self::scaled_int(i64::from(urad), 1_000_000)
+    }
+
+    /// To whole microradians, rounded to nearest (ties away from zero);
+    /// `None` for NaN or beyond +-2147 rad (never for an angle).
+    #[must_use]
+    pub fn to_urad(self) -> Option<i32> {
+        self.to_scaled_int(1_000_000)
+    }
+
+    /// A joint angle from an encoder reading: `counts * 2 pi /
+    /// counts_per_rev` radians, rounded to nearest (error at most 0.51
+    /// LSB: the quotient is rounded in Q.32, then to Q7.25).
+    ///
+    /// `None` when `counts_per_rev` is 0 or above [`MAX_COUNTS_PER_REV`],
+    /// or the angle is beyond +-64 rad.
+    #[must_use]
+    pub fn from_counts(counts: i32, counts_per_rev: u32) -> Option<Self> {
+        if counts_per_rev == 0 || counts_per_rev > MAX_COUNTS_PER_REV {
+            return None;
+        }
+        let cpr = i64::from(counts_per_rev);
+        let c = i64::from(counts);
+        let (turns, rest) = (c / cpr, c % cpr);
+        // |turns| * 2 pi < 2^31 * 2^35 would overflow: refuse early, the
+        // angle is out of range anyway beyond 10 turns.
+        if turns.abs() > 11 {
+            return None;
+        }
+        // |rest| < 2^24 and TWO_PI_Q32 < 2^35: product below 2^59.
+        let frac_q32 = div_round(rest * TWO_PI_Q32, cpr);
+        let total_q32 = turns * TWO_PI_Q32 + frac_q32;
+        let raw = narrow(div_round(total_q32, 1 << (32 - FRAC)));
+        if raw == NAN { None } else { Some(Self(raw)) }
+    }
+
+    /// The encoder reading nearest this angle: `round(theta *
+    /// counts_per_rev / (2 pi))`, ties away from zero. `None` for NaN, for
+    /// `counts_per_rev` 0 or above [`MAX_COUNTS_PER_REV`].
+    #[must_use]
+    pub fn to_counts(self, counts_per_rev: u32) -> Option<i32> {
+        if self.0 == NAN || counts_per_rev == 0 || counts_per_rev > MAX_COUNTS_PER_REV {
+            return None;
+        }
+        // counts = raw * cpr * 2^(32 - FRAC) / TWO_PI_Q32. |raw| * cpr <
+        // 2^31 * 2^24 = 2^55, so take two bits off the divisor instead of
+        // shifting the numerator by all of 32 - FRAC (relative error of
+        // the divisor below 2^-33).
+        let n = i64::from(self.0) * i64::from(counts_per_rev);
+        let q = div_round(n << (30 - FRAC), TWO_PI_Q32 >> 2);
+        let v = narrow(q);
+        if v == NAN { None } else { Some(v) }
+    }
+}
+
+impl Arith for Fixed {
+    const ZERO: Self = Self(0);
+    const ONE: Self = Self(ONE_RAW);
+    const TWO: Self = Self(2 * ONE_RAW);
+    const HALF: Self = Self(ONE_RAW / 2);
+    const PI: Self = Self(cordic::PI_RAW);
+
+    type Wide = FixedWide;
+    type Recip = FixedRecip;
+
+    /// Q7.25 times Q18.14 to Q18.14, rounded; NaN when out of range.
+    #[inline]
+    fn mul_wide(self, w: FixedWide) -> FixedWide {
+        FixedWide(mul_raw(self.0, w.0, FRAC))
+    }
+
+    /// `None` unless `den > 0`.
+    fn recip(den: FixedWide) -> Option<FixedRecip> {
+        FixedWide::reciprocal(den)
+    }
+
+    /// `num / den` in Q7.25, rounded: one 64-bit product and a shift;
+    /// relative error of the reciprocal below 2^-31, so below 0.1 LSB for
+    /// quotients under 4.
+    #[inline]
+    fn mul_recip(num: FixedWide, r: FixedRecip) -> Self {
+        Self(r.apply(num.0, FRAC))
+    }
+
+    /// The validated envelope: lower arm within
+    /// [`Fixed::ENVELOPE_MIN_LOWER_ARM_MM`] and
+    /// [`Fixed::ENVELOPE_MAX_LOWER_ARM_MM`], `a >=`
+    /// [`Fixed::ENVELOPE_MIN_A`], and `(|d| + a)^2 + a^2 <=`
+    /// [`Fixed::ENVELOPE_MAX_R`]`^2`, all computed with checked operations.
+    fn admits_geometry(lower_arm: FixedWide, a: Self, d: Self) -> bool {
+        let (lo, hi) = (Self::ENVELOPE_MIN_LOWER_ARM_MM << WIDE_FRAC, Self::ENVELOPE_MAX_LOWER_ARM_MM << WIDE_FRAC);
+        let min_a = Self(6_710_887); // 0.2 in Q7.25, rounded up
+        let max_r2 = Self(52_428_800); // 1.5625 in Q7.25, exact
+        let s = d.abs() + a;
+        let r2 = s * s + a * a;
+        lower_arm.0 >= lo && lower_arm.0 <= hi && a >= min_a && r2 <= max_r2
+    }
+
+    #[inline]
+    fn abs(self) -> Self {
+        if self.0 < 0 { -self } else { self }
+    }
+
+    #[inline]
+    fn checked_div(self, rhs: Self) -> Option<Self> {
+        div_raw(self.0, rhs.0, FRAC).map(Self)
+    }
+
+    #[inline]
+    fn is_finite(self) -> bool {
+        self.0 != NAN
+    }
+
+    fn from_f64(v: f64) -> Option<Self> {
+        from_f64_raw(v, FRAC).map(Self)
+    }
+
+    fn to_f64(self) -> f64 {
+        to_f64_raw(self.0, FRAC)
+    }
+}
+
+impl FixedRecip {
+    /// `num * 2^frac / D`, rounded, or NaN when out of range.
+    #[inline]
+    fn apply(self, num: i32, frac: u32) -> i32 {
+        if num == NAN {
+            return NAN;
+        }
+        // |num| < 2^31, m <= 2^31: product below 2^62. num and D share
+        // their format, so num * m / 2^(k + 30) is the plain quotient and
+        // the result in Q.frac needs a shift of k + 30 - frac (>= 7).
+        let shift = self.k + 30 - frac;
+        narrow(shift_round(i64::from(num) * self.m, shift))
+    }
+}
+
+impl FixedWide {
+    fn reciprocal(den: Self) -> Option<FixedRecip> {
+        if den.0 <= 0 {
+            return None;
+        }
+        #[allow(clippy::cast_sign_loss)] // den > 0
+        let d = den.0 as u64;
+        let k = 32 - den.0.leading_zeros(); // 1..=31
+        // 2^(k + 30) / d lies in (2^30, 2^31]; k + 30 <= 61.
+        let m = ((1u64 << (k + 30)) + d / 2) / d;
+        #[allow(clippy::cast_possible_wrap)] // m <= 2^31
+        Some(FixedRecip { m: m as i64, k })
+    }
+}
+
+impl Arith for FixedWide {
+    const ZERO: Self = Self(0);
+    const ONE: Self = Self(WIDE_ONE_RAW);
+    const TWO: Self = Self(2 * WIDE_ONE_RAW);
+    const HALF: Self = Self(WIDE_ONE_RAW / 2);
+    const PI: Self = Self(51_472);
+
+    type Wide = Self;
+    type Recip = FixedRecip;
+
+    #[inline]
+    fn mul_wide(self, w: Self) -> Self {
+        self * w
+    }
+
+    fn recip(den: Self) -> Option<FixedRecip> {
+        Self::reciprocal(den)
+    }
+
+    #[inline]
+    fn mul_recip(num: Self, r: FixedRecip) -> Self {
+        Self(r.apply(num.0, WIDE_FRAC))
+    }
+
+    /// `FixedWide` is an API type only (it does not implement
+    /// [`crate::Real`], so no robot runs on it); nothing to refuse.
+    fn admits_geometry(_lower_arm: Self, _a: Self, _d: Self) -> bool {
+        true
+    }
+
+    #[inline]
+    fn abs(self) -> Self {
+        if self.0 < 0 { -self } else { self }
+    }
+
+    #[inline]
+    fn checked_div(self, rhs: Self) -> Option<Self> {
+        div_raw(self.0, rhs.0, WIDE_FRAC).map(Self)
+    }
+
+    #[inline]
+    fn is_finite(self) -> bool {
+        self.0 != NAN
+    }
+
+    fn from_f64(v: f64) -> Option<Self> {
+        from_f64_raw(v, WIDE_FRAC).map(Self)
+    }
+
+    fn to_f64(self) -> f64 {
+        to_f64_raw(self.0, WIDE_FRAC)
+    }
+}
+
+impl Real for Fixed {
+    /// Digit-by-digit root: correctly rounded, NaN for a
+    /// negative argument.
+    #[inline]
+    fn sqrt(self) -> Self {
+        Self(cordic::sqrt(self.0))
+    }
+
+    /// CORDIC vectoring, error at most
+    /// [`super::ATAN2_MAX_ERROR_LSB`] LSB.
+    #[inline]
+    fn atan2(self, x: Self) -> Self {
+        Self(cordic::atan2(self.0, x.0))
+    }
+
+    /// CORDIC rotation with explicit wrap, error at most
+    /// [`super::SIN_COS_MAX_ERROR_LSB`] LSB.
+    #[inline]
+    fn sin_cos(self) -> (Self, Self) {
+        let (s, c) = cordic::sin_cos(self.0);
+        (Self(s), Self(c))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn operators_are_checked_and_never_wrap() {
+        let big = Fixed::from_f64(50.0).unwrap();
+        assert!(!(big + big).is_finite());
+        assert!(!(-big - big).is_finite());
+        assert!(!(big * big).is_finite());
+        assert!(!(Fixed::NAN + Fixed::ONE).is_finite());
+        assert!(!(-Fixed::NAN).is_finite());
+        assert_eq!(Fixed::ONE.checked_div(Fixed::ZERO), None);
+        assert_eq!(big.checked_div(Fixed::from_f64(0.5).unwrap()), None);
+        assert_eq!(Fixed::MAX.abs(), Fixed::MAX);
+        assert!((-Fixed::MAX).abs() == Fixed::MAX);
+        // NaN is unordered and unequal, like a float NaN.
+        assert!(!(Fixed::NAN >= Fixed::ZERO) && !(Fixed::NAN <= Fixed::ZERO));
+        assert!(Fixed::NAN != Fixed::NAN);
+        let w = FixedWide::from_mm(100_000).unwrap();
+        assert!(!(w + w).is_finite());
+        assert!(!Fixed::TWO.mul_wide(w).is_finite());
+    }
+
+    const LSB: f64 = 1.0 / 33_554_432.0;
+
+    #[test]
+    fn products_and_quotients_round_to_nearest() {
+        let third = Fixed::ONE.checked_div(Fixed::from_f64(3.0).unwrap()).unwrap();
+        assert!((third.to_f64() - 1.0 / 3.0).abs() <= 0.5 * LSB);
+        let x = Fixed::from_f64(1.234_567).unwrap();
+        let y = Fixed::from_f64(-2.345_678).unwrap();
+        assert!(((x * y).to_f64() - x.to_f64() * y.to_f64()).abs() <= 0.5 * LSB);
+        let q = x.checked_div(y).unwrap();
+        assert!((q.to_f64() - x.to_f64() / y.to_f64()).abs() <= 0.5 * LSB);
+    }
+
+    #[test]
+    fn reciprocal_quotient_is_accurate() {
+        for den_mm in [50.0, 199.99, 720.0, 1234.5678, 4000.0] {
+            let den = FixedWide::from_f64(den_mm).unwrap();
+            let r = Fixed::recip(den).unwrap();
+            for num_mm in [0.0, 1.0, -37.5, 720.0, 3999.0, -8000.0] {
+                let num = FixedWide::from_f64(num_mm).unwrap();
+                let got = Fixed::mul_recip(num, r).to_f64();
+                let want = num.to_f64() / den.to_f64();
+                if want.abs() >= 64.0 {
+                    assert!(got.is_nan(), "{num_mm}/{den_mm} must be out of range");
+                    continue;
+                }
+                assert!((got - want).abs() <= 1.0 * LSB, "{num_mm}/{den_mm}: {got} vs {want}");
+            }
+        }
+        assert_eq!(Fixed::recip(FixedWide::ZERO), None);
+        assert_eq!(Fixed::recip(-FixedWide::ONE), None);
+        // Quotient out of range: NaN, not a wrapped value.
+        let r = Fixed::recip(FixedWide::from_mm(100).unwrap()).unwrap();
+        assert!(!Fixed::mul_recip(FixedWide::from_mm(131_000).unwrap(), r).is_finite());
+    }
+
+    #[test]
+    fn edge_conversions_round_as_documented() {
+        assert_eq!(FixedWide::from_mm(720).unwrap().to_f64(), 720.0);
+        assert_eq!(FixedWide::from_mm(131_072), None);
+        assert_eq!(FixedWide::from_mm(-131_072), None);
+        let w = FixedWide::from_um(1).unwrap();
+        assert_eq!(w.to_raw(), 16); // 16.384 rounds to 16
+        assert_eq!(FixedWide::from_um(-1).unwrap().to_raw(), -16);
+        assert_eq!(FixedWide::from_um(123_456_789).unwrap().to_um(), Some(123_456_789));
+        assert_eq!(FixedWide::from_um(i32::MAX), None);
+        assert_eq!(FixedWide::from_f64(2.5).unwrap().to_mm(), Some(3));
+        assert_eq!(FixedWide::from_f64(-2.5).unwrap().to_mm(), Some(-3));
+        assert_eq!(FixedWide::NAN.to_mm(), None);
+        assert_eq!(FixedWide::from_f32(f32::NAN), None);
+        assert_eq!(FixedWide::from_f32(1.0e6), None);
+        assert_eq!(FixedWide::from_f32(-812.25).unwrap().to_f32(), -812.25);
+        assert!(Fixed::NAN.to_f32().is_nan());
+        assert_eq!(Fixed::from_urad(1_000_000).unwrap(), Fixed::ONE);
+        assert_eq!(Fixed::from_f64(-0.000_123_456).unwrap().to_urad(), Some(-123));
+        assert_eq!(Fixed::from_f64(63.9).unwrap().to_urad(), Some(63_900_000));
+    }
+
+    #[test]
+    fn encoder_counts_round_trip() {
+        for cpr in [4096u32, 10_000, 131_072, MAX_COUNTS_PER_REV] {
+            let cpr_i = i32::try_from(cpr).unwrap();
+            for counts in [0, 1, -1, cpr_i / 4, -cpr_i / 3, cpr_i / 2, cpr_i, 7 * cpr_i + 5, -(10 * cpr_i)] {
+                let a = Fixed::from_counts(counts, cpr).unwrap();
+                let want = f64::from(counts) * 2.0 * core::f64::consts::PI / f64::from(cpr);
+                assert!((a.to_f64() - want).abs() <= 0.51 * LSB, "{counts}/{cpr}");
+                // Back: exact when one count is wider than an LSB.
+                if cpr <= 1 << 20 {
+                    assert_eq!(a.to_counts(cpr), Some(counts), "{counts}/{cpr}");
+                }
+            }
+        }
+        assert_eq!(Fixed::from_counts(1, 0), None);
+        assert_eq!(Fixed::from_counts(1, MAX_COUNTS_PER_REV + 1), None);
+        assert_eq!(Fixed::from_counts(i32::MAX, 4096), None);
+        assert_eq!(Fixed::NAN.to_counts(4096), None);
+    }
+}
