@@ -11,11 +11,14 @@
 #          `core` for the target with `-Z build-std=core`. The packages are
 #          installed only when /usr/bin/rustc is missing.
 #
-# Output goes to target/cross (route 2: target/cross/debian) so the host build in target/ stays valid.
-# Prints the size of the code in the built rlib for each target. Only the
-# crate's non-generic code is in the rlib: the solvers are generic and are
-# compiled into the crate that instantiates them, so this is not the
-# firmware footprint.
+# Output goes to target/cross (route 2: target/cross/debian) so the host
+# build in target/ stays valid.
+#
+# Prints the .text size of the built rlib for each target. That is only
+# the code no caller can inline or instantiate itself (the error
+# messages' formatting, about half a kilobyte): the solvers are generic
+# and the f32 kernels small, so they are compiled into the crate that
+# uses them. It is not the firmware footprint.
 #
 # Usage: ci/cross-build.sh [TARGET...]   (default: both targets)
 #   CROSS_ROUTE=debian forces route 2 (to check it on a machine that has
@@ -58,20 +61,37 @@ has_target_std() {
     compgen -G "$sysroot/lib/rustlib/$1/lib/libcore-*.rlib" > /dev/null
 }
 
+install_debian_rust() {
+    echo "cross-build: installing Debian's rustc-web, rust-web-src and lld"
+    local started=$SECONDS
+    export DEBIAN_FRONTEND=noninteractive
+    # Wait for another apt run instead of failing on its lock.
+    apt-get -o DPkg::Lock::Timeout=600 update -qq
+    apt-get -o DPkg::Lock::Timeout=600 install -y -qq --no-install-recommends \
+        rustc-web rust-web-src lld > /dev/null
+    echo "cross-build: apt took $((SECONDS - started)) s"
+}
+
+# The version of Debian's rustc, e.g. 1.96.0.
+debian_rustc_version() {
+    local v
+    v=$("$DEBIAN_RUSTC" --version | awk '{print $2}')
+    echo "${v%%+*}"
+}
+
 ensure_debian_rustc() {
     if [ ! -x "$DEBIAN_RUSTC" ]; then
-        echo "cross-build: installing Debian's rustc-web, rust-web-src and lld"
-        local started=$SECONDS
-        export DEBIAN_FRONTEND=noninteractive
-        # Wait for another apt run instead of failing on its lock.
-        apt-get -o DPkg::Lock::Timeout=600 update -qq
-        apt-get -o DPkg::Lock::Timeout=600 install -y -qq --no-install-recommends \
-            rustc-web rust-web-src lld > /dev/null
-        echo "cross-build: apt took $((SECONDS - started)) s"
+        install_debian_rust
     fi
     local have
-    have=$("$DEBIAN_RUSTC" --version | awk '{print $2}')
-    have=${have%%+*}
+    have=$(debian_rustc_version)
+    if ! version_at_least "$have" "$msrv"; then
+        # Debian's plain `rustc` package is far older than rustc-web (which
+        # bookworm updates through its security archive); try replacing it.
+        echo "cross-build: $DEBIAN_RUSTC $have is older than rust-version $msrv"
+        install_debian_rust
+        have=$(debian_rustc_version)
+    fi
     echo "cross-build: Debian rustc $have (crate rust-version $msrv)"
     if ! version_at_least "$have" "$msrv"; then
         echo "cross-build: $DEBIAN_RUSTC $have is older than rust-version $msrv" >&2
@@ -96,7 +116,7 @@ print_text_size() {
     # metadata member has none).
     local text
     text=$("$tool" -A "$rlib" 2> /dev/null | awk '$1 ~ /^\.text/ {s += $2} END {print s + 0}')
-    echo "cross-build: $target ok, $rlib .text = $text bytes (non-generic code only)"
+    echo "cross-build: $target ok, $rlib .text = $text bytes (not the firmware footprint)"
 }
 
 debian_ready=false
