@@ -8,6 +8,9 @@
 //! is points per second; the time per point is the reported time divided
 //! by the number of points printed at the start.
 //!
+//! Goal on the development machine (not a test): f32 guarded inverse and
+//! forward kinematics each under 40 ns per point.
+//!
 //! Run: `cargo bench --bench kinematics`.
 
 use std::hint::black_box;
