@@ -1,5 +1,5 @@
 //! Per-point cost of deltakin's inverse and forward kinematics, guarded and
-//! unguarded, in f32 and f64, on the demo robot (`examples/demo_robot.toml`,
+//! unguarded, in f32, f64 and fixed point, on the demo robot (`examples/demo_robot.toml`,
 //! copied in `shared/demo_robot.rs`).
 //!
 //! Each benchmark solves the same fixed set of points spread through the
@@ -26,7 +26,7 @@ mod demo_robot;
 fn bench_type<S: Real>(c: &mut Criterion, type_name: &str) {
     let robot = demo_robot::robot::<S>();
     let points64 = demo_robot::points();
-    let points: Vec<[S; 3]> = demo_robot::convert(&points64);
+    let points: Vec<[S::Wide; 3]> = demo_robot::convert(&points64);
     let joints: Vec<[S; 3]> = demo_robot::convert(&demo_robot::joints(&points64));
     // Benchmark only what is meant: every point passes every guard.
     for (p, j) in points.iter().zip(&joints) {
@@ -61,6 +61,7 @@ fn kinematics(c: &mut Criterion) {
     eprintln!("kinematics: {} points per iteration (time per point = time / {0})", demo_robot::points().len());
     bench_type::<f32>(c, "f32");
     bench_type::<f64>(c, "f64");
+    bench_type::<deltakin::Fixed>(c, "fixed");
 }
 
 /// Short runs: the numbers are for comparison on one machine, not a

@@ -9,7 +9,7 @@
 //! Used as `#[path = "shared/demo_robot.rs"] mod demo_robot;` (a file in a
 //! subfolder of `benches/` is not a bench target of its own).
 
-use deltakin::{Geometry, Limits, Real, Robot};
+use deltakin::{Arith, Geometry, Limits, Real, Robot};
 
 /// `[geometry]` of `examples/demo_robot.toml`, millimetres.
 pub const BASE_RADIUS_MM: f64 = 160.0;
@@ -26,7 +26,7 @@ pub const MIN_PARALLEL_MARGIN: f64 = 0.1;
 
 /// Converts as the harness does: degrees to radians in f64, then rounds
 /// to `S`.
-fn to<S: Real>(v: f64) -> S {
+fn to<S: Arith>(v: f64) -> S {
     S::from_f64(v).expect("demo robot numbers are representable")
 }
 
@@ -84,6 +84,6 @@ pub fn joints(points: &[[f64; 3]]) -> Vec<[f64; 3]> {
 }
 
 /// Rounds a list of triples to scalar type `S`.
-pub fn convert<S: Real>(v: &[[f64; 3]]) -> Vec<[S; 3]> {
+pub fn convert<S: Arith>(v: &[[f64; 3]]) -> Vec<[S; 3]> {
     v.iter().map(|t| t.map(to::<S>)).collect()
 }

@@ -259,6 +259,9 @@ fn reference_solve(kind: Kind, g: &Geometry<f64>, input: [f64; 3]) -> Option<[f6
     }
 }
 
+/// A question for the reference: dimensions and input.
+type Question = (Geometry<f64>, [f64; 3]);
+
 fn sample(setup: &Setup, kind: Kind, input: [f64; 3]) -> Sample {
     let sides = [
         side(&setup.r64, kind, input),
@@ -270,7 +273,7 @@ fn sample(setup: &Setup, kind: Kind, input: [f64; 3]) -> Sample {
     }
     // The reference answers each core's own question (its dimensions and
     // its input, exactly as held); identical questions are asked once.
-    let mut asked: Vec<((Geometry<f64>, [f64; 3]), Option<[f64; 3]>)> = Vec::with_capacity(3);
+    let mut asked: Vec<(Question, Option<[f64; 3]>)> = Vec::with_capacity(3);
     let mut outcomes = [Outcome::NotAccepted; 3];
     for ((side, g), outcome) in sides.iter().zip(setup.geometries.iter()).zip(outcomes.iter_mut()) {
         let Some(exact) = side.input else { continue };

@@ -10,6 +10,8 @@
 //! forward-kinematics check feeds the reference the fixed joint angles
 //! themselves, so the figures are the fixed solvers' own errors.
 
+#![allow(clippy::needless_range_loop)] // index loops over x, y, z read best here
+
 use deltakin::scalar::{ATAN2_MAX_ERROR_LSB, SIN_COS_MAX_ERROR_LSB, SQRT_MAX_ERROR_LSB};
 use deltakin::{Arith, ConfigFault, Error, Fixed, FixedWide, Geometry, Limits, Real, Robot, Solution};
 use deltakin_harness::reference;
