@@ -155,7 +155,7 @@ fn atan2_absolute_error() {
     assert_between("atan2 libm atan2f (rad)", libm_f, LIBM_ATAN2F_ABS);
     // micromath alone would exceed the f32 joint-angle budget of the whole
     // solver; libm leaves almost all of it to the rest of the algorithm.
-    assert!(micromath > 10.0 * F32_JOINT_ERR_RAD && libm_f < 0.02 * F32_JOINT_ERR_RAD);
+    assert!(micromath > 10.0 * F32_JOINT_ERR_RAD && libm_f < 0.05 * F32_JOINT_ERR_RAD);
 }
 
 #[test]
