@@ -85,6 +85,7 @@ impl<S: Real> Jacobian<S> {
     /// [`Error::OutOfRange`] when an intermediate value does not fit the
     /// number type (fixed point only); [`Error::NearSerialSingularity`]
     /// naming the arm whose `b_i` is too small to divide by.
+    #[cfg_attr(feature = "no-panic", no_panic::no_panic)]
     pub fn joint_rates(&self, velocity: [S::Wide; 3]) -> Result<[S::Wide; 3], Error> {
         finite3(velocity, Input::Velocity)?;
         let mut out = [S::Wide::ZERO; 3];
@@ -108,6 +109,7 @@ impl<S: Real> Jacobian<S> {
     /// when an intermediate value does not fit the number type (fixed
     /// point only); [`Error::NearParallelSingularity`] when `det J_p` is
     /// too small.
+    #[cfg_attr(feature = "no-panic", no_panic::no_panic)]
     pub fn cartesian_velocity(&self, rates: [S::Wide; 3]) -> Result<[S::Wide; 3], Error> {
         finite3(rates, Input::JointRates)?;
         let y = [
@@ -133,6 +135,7 @@ impl<S: Real> Jacobian<S> {
     /// (beyond +-131 N*m for fixed point; for floats only a finite force
     /// far beyond any machine's, about 1e36 N in f32, gets here or to the
     /// previous error).
+    #[cfg_attr(feature = "no-panic", no_panic::no_panic)]
     pub fn joint_torques(&self, force: [S::Wide; 3]) -> Result<[S::Wide; 3], Error> {
         finite3(force, Input::Force)?;
         let z = self.solve_rods_transposed(force)?;
@@ -149,6 +152,7 @@ impl<S: Real> Jacobian<S> {
     /// # Errors
     /// [`Error::NearParallelSingularity`] when `det J_p` is too small;
     /// [`Error::OutOfRange`] when an entry does not fit the number type.
+    #[cfg_attr(feature = "no-panic", no_panic::no_panic)]
     pub fn matrix(&self) -> Result<[[S::Wide; 3]; 3], Error> {
         let (o, l) = (S::Wide::ZERO, S::Wide::ONE);
         let c0 = self.cartesian_velocity([l, o, o])?;

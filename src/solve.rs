@@ -30,6 +30,7 @@ impl<S: Real> Robot<S> {
     ///
     /// # Panics
     /// Never.
+    #[cfg_attr(feature = "no-panic", no_panic::no_panic)]
     pub fn inverse(&self, target: [S::Wide; 3]) -> Result<Solution<S>, Error> {
         let solution = self.inverse_unguarded(target)?;
         guard::check(self, &solution)?;
@@ -46,6 +47,7 @@ impl<S: Real> Robot<S> {
     ///
     /// # Panics
     /// Never.
+    #[cfg_attr(feature = "no-panic", no_panic::no_panic)]
     pub fn forward(&self, joints: [S; 3]) -> Result<Solution<S>, Error> {
         finite3(joints, Input::JointAngles)?;
         guard::check_joints(self, joints)?;
@@ -63,6 +65,7 @@ impl<S: Real> Robot<S> {
     ///
     /// # Panics
     /// Never.
+    #[cfg_attr(feature = "no-panic", no_panic::no_panic)]
     pub fn inverse_unguarded(&self, target: [S::Wide; 3]) -> Result<Solution<S>, Error> {
         finite3(target, Input::Position)?;
         // Out of range (fixed point) gives not-a-number, which the
@@ -84,6 +87,7 @@ impl<S: Real> Robot<S> {
     ///
     /// # Panics
     /// Never.
+    #[cfg_attr(feature = "no-panic", no_panic::no_panic)]
     pub fn forward_unguarded(&self, joints: [S; 3]) -> Result<Solution<S>, Error> {
         finite3(joints, Input::JointAngles)?;
         let turn = S::TWO * S::PI;
