@@ -182,6 +182,12 @@ impl fmt::Display for Error {
 
 impl core::error::Error for Error {}
 
+/// `Ok` when all three numbers are finite, else [`Error::NonFinite`]
+/// naming `input`.
+pub(crate) fn check_finite<A: crate::scalar::Arith>(v: [A; 3], input: Input) -> Result<(), Error> {
+    if v.iter().all(|x| x.is_finite()) { Ok(()) } else { Err(Error::NonFinite { input }) }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

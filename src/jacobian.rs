@@ -33,7 +33,7 @@
 //! Internally the lower-arm vectors are unit vectors (lengths in lower-arm
 //! units); the maps convert to millimetres.
 
-use crate::error::{Error, Input};
+use crate::error::{Error, Input, check_finite};
 use crate::forward::{cross, dot};
 use crate::scalar::{Arith, Real};
 
@@ -53,10 +53,6 @@ pub struct Jacobian<S: Arith> {
     det: S,
     /// Lower-arm length, mm.
     scale: S::Wide,
-}
-
-fn finite3<A: Arith>(v: [A; 3], input: Input) -> Result<(), Error> {
-    if v.iter().all(|x| x.is_finite()) { Ok(()) } else { Err(Error::NonFinite { input }) }
 }
 
 /// `sum_j m_j w_j`: internal coefficients times API quantities.
@@ -87,7 +83,7 @@ impl<S: Real> Jacobian<S> {
     /// naming the arm whose `b_i` is too small to divide by.
     #[cfg_attr(feature = "no-panic", no_panic::no_panic)]
     pub fn joint_rates(&self, velocity: [S::Wide; 3]) -> Result<[S::Wide; 3], Error> {
-        finite3(velocity, Input::Velocity)?;
+        check_finite(velocity, Input::Velocity)?;
         let mut out = [S::Wide::ZERO; 3];
         for (arm, (o, (rod, &b))) in out.iter_mut().zip(self.rods.iter().zip(self.rates.iter())).enumerate() {
             #[allow(clippy::cast_possible_truncation)] // arm < 3
@@ -111,7 +107,7 @@ impl<S: Real> Jacobian<S> {
     /// too small.
     #[cfg_attr(feature = "no-panic", no_panic::no_panic)]
     pub fn cartesian_velocity(&self, rates: [S::Wide; 3]) -> Result<[S::Wide; 3], Error> {
-        finite3(rates, Input::JointRates)?;
+        check_finite(rates, Input::JointRates)?;
         let y = [
             self.rates[0].mul_wide(rates[0]) * self.scale,
             self.rates[1].mul_wide(rates[1]) * self.scale,
@@ -137,7 +133,7 @@ impl<S: Real> Jacobian<S> {
     /// previous error).
     #[cfg_attr(feature = "no-panic", no_panic::no_panic)]
     pub fn joint_torques(&self, force: [S::Wide; 3]) -> Result<[S::Wide; 3], Error> {
-        finite3(force, Input::Force)?;
+        check_finite(force, Input::Force)?;
         let z = self.solve_rods_transposed(force)?;
         let out = [
             self.rates[0].mul_wide(z[0]) * self.scale,

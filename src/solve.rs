@@ -5,17 +5,13 @@
 //! fixed sequence of operations (no loop depends on the input), and
 //! returns either a [`Solution`] or an [`Error`] naming what is wrong.
 
-use crate::error::{Bound, Error, Input};
+use crate::error::{Bound, Error, Input, check_finite};
 use crate::forward;
 use crate::guard;
 use crate::inverse::{self, ArmState};
 use crate::robot::Robot;
 use crate::scalar::{Arith, Real};
 use crate::solution::Solution;
-
-fn finite3<A: Arith>(v: [A; 3], input: Input) -> Result<(), Error> {
-    if v.iter().all(|x| x.is_finite()) { Ok(()) } else { Err(Error::NonFinite { input }) }
-}
 
 impl<S: Real> Robot<S> {
     /// Guarded inverse kinematics: joint angles (rad) for a platform
@@ -49,7 +45,7 @@ impl<S: Real> Robot<S> {
     /// Never.
     #[cfg_attr(feature = "no-panic", no_panic::no_panic)]
     pub fn forward(&self, joints: [S; 3]) -> Result<Solution<S>, Error> {
-        finite3(joints, Input::JointAngles)?;
+        check_finite(joints, Input::JointAngles)?;
         guard::check_joints(self, joints)?;
         let solution = self.forward_unguarded(joints)?;
         guard::check(self, &solution)?;
@@ -67,7 +63,7 @@ impl<S: Real> Robot<S> {
     /// Never.
     #[cfg_attr(feature = "no-panic", no_panic::no_panic)]
     pub fn inverse_unguarded(&self, target: [S::Wide; 3]) -> Result<Solution<S>, Error> {
-        finite3(target, Input::Position)?;
+        check_finite(target, Input::Position)?;
         // Out of range (fixed point) gives not-a-number, which the
         // solver reports as unreachable: such a target is beyond reach.
         let p = target.map(|v| S::mul_recip(v, self.inv_scale));
@@ -89,7 +85,7 @@ impl<S: Real> Robot<S> {
     /// Never.
     #[cfg_attr(feature = "no-panic", no_panic::no_panic)]
     pub fn forward_unguarded(&self, joints: [S; 3]) -> Result<Solution<S>, Error> {
-        finite3(joints, Input::JointAngles)?;
+        check_finite(joints, Input::JointAngles)?;
         let turn = S::TWO * S::PI;
         for (arm, &t) in joints.iter().enumerate() {
             #[allow(clippy::cast_possible_truncation)] // arm < 3
