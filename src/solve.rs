@@ -10,7 +10,7 @@ use crate::forward;
 use crate::guard;
 use crate::inverse::{self, ArmState};
 use crate::robot::Robot;
-use crate::scalar::{Arith, Real};
+use crate::scalar::Real;
 use crate::solution::Solution;
 
 impl<S: Real> Robot<S> {
