@@ -440,7 +440,9 @@ fn run_report(args: &ReportArgs) -> Result<ExitCode, Failure> {
         Some(timing::run(&robot, &findings.ik_accepted, &findings.fk_accepted, centre)?)
     };
     let plots = match &args.plots {
-        Some(dir) => plots::write_all(dir, &robot, usable.as_ref(), ik).map_err(Failure)?,
+        Some(dir) => {
+            plots::write_all(dir, &robot, usable.as_ref(), ik, gate_limits.accuracy.f32_joint_rad).map_err(Failure)?
+        }
         None => Vec::new(),
     };
     let gates = gates::evaluate(&gate_limits, &findings, host_timing.as_ref(), targets.as_ref());

@@ -22,9 +22,9 @@ use serde::Serialize;
 
 use crate::bounds;
 use crate::config::RobotFile;
+use crate::progress;
 use crate::reference;
 use crate::stats::{self, Extreme, Summary};
-use crate::progress;
 use crate::sweep::{self, Density, PointSet, par_map_progress};
 
 /// Which problem a sweep checks.
@@ -341,7 +341,11 @@ fn aggregate(
     let bound_of = |i: usize| match kind {
         Kind::Inverse => (
             limits.joint_rad[i],
-            if limits.joint_rad[i] == defaults.joint_rad[i] { bounds::JOINT_BOUND_NAMES[i] } else { GATE_JOINT_NAMES[i] },
+            if limits.joint_rad[i] == defaults.joint_rad[i] {
+                bounds::JOINT_BOUND_NAMES[i]
+            } else {
+                GATE_JOINT_NAMES[i]
+            },
         ),
         Kind::Forward => (
             limits.position_mm[i],

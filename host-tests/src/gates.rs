@@ -252,7 +252,8 @@ impl GateConfig {
     /// # Errors
     /// A message naming the file.
     pub fn read_layer(path: &Path) -> Result<toml::Table, String> {
-        let text = std::fs::read_to_string(path).map_err(|e| format!("cannot read gate file {}: {e}", path.display()))?;
+        let text =
+            std::fs::read_to_string(path).map_err(|e| format!("cannot read gate file {}: {e}", path.display()))?;
         text.parse().map_err(|e| format!("invalid gate file {}: {e}", path.display()))
     }
 }
@@ -363,7 +364,14 @@ impl Gate {
         Gate { section, name, measured: Some(measured), limit, unit, verdict, enforced: true, note: String::new() }
     }
 
-    fn not_run(section: &'static str, name: String, limit: f64, unit: &'static str, enforced: bool, note: &str) -> Self {
+    fn not_run(
+        section: &'static str,
+        name: String,
+        limit: f64,
+        unit: &'static str,
+        enforced: bool,
+        note: &str,
+    ) -> Self {
         Gate { section, name, measured: None, limit, unit, verdict: Verdict::NotRun, enforced, note: note.to_owned() }
     }
 
@@ -418,21 +426,24 @@ fn accuracy(findings: &Findings) -> Vec<Gate> {
 
 fn host(timing: Option<&HostTiming>, g: &HostTimingGates) -> Vec<Gate> {
     let note = if g.enforce { "goal, enforced by the gates" } else { "goal only: a miss does not fail the report" };
-    [("inverse", "f32 guarded IK, median", g.f32_inverse_median_ns), ("forward", "f32 guarded FK, median", g.f32_forward_median_ns)]
-        .into_iter()
-        .map(|(call, name, limit)| {
-            let found = timing.and_then(|t| t.calls.iter().find(|c| c.call == call && c.scalar == "f32"));
-            let mut gate = match found {
-                Some(c) => Gate::at_most("host_timing", name.to_owned(), c.median_ns, limit, "ns"),
-                None => Gate::not_run("host_timing", name.to_owned(), limit, "ns", g.enforce, "timing was skipped"),
-            };
-            gate.enforced = g.enforce;
-            if gate.note.is_empty() {
-                note.clone_into(&mut gate.note);
-            }
-            gate
-        })
-        .collect()
+    [
+        ("inverse", "f32 guarded IK, median", g.f32_inverse_median_ns),
+        ("forward", "f32 guarded FK, median", g.f32_forward_median_ns),
+    ]
+    .into_iter()
+    .map(|(call, name, limit)| {
+        let found = timing.and_then(|t| t.calls.iter().find(|c| c.call == call && c.scalar == "f32"));
+        let mut gate = match found {
+            Some(c) => Gate::at_most("host_timing", name.to_owned(), c.median_ns, limit, "ns"),
+            None => Gate::not_run("host_timing", name.to_owned(), limit, "ns", g.enforce, "timing was skipped"),
+        };
+        gate.enforced = g.enforce;
+        if gate.note.is_empty() {
+            note.clone_into(&mut gate.note);
+        }
+        gate
+    })
+    .collect()
 }
 
 /// The call names of the targets file, with the words the report uses.
@@ -460,7 +471,14 @@ fn targets(file: Option<&TargetsFile>, g: &TargetGates) -> Vec<Gate> {
             let name = format!("{who}: {words}, worst instructions");
             match found.and_then(|t| t.call(call)) {
                 Some(c) => out.push(Gate::at_most("targets", name, c.worst_instructions as f64, limit as f64, "instr")),
-                None => out.push(Gate::not_run("targets", name, limit as f64, "instr", true, "missing from the targets file")),
+                None => out.push(Gate::not_run(
+                    "targets",
+                    name,
+                    limit as f64,
+                    "instr",
+                    true,
+                    "missing from the targets file",
+                )),
             }
         }
         if let Some(limit) = b.flash_kinematics_bytes {
@@ -469,13 +487,26 @@ fn targets(file: Option<&TargetsFile>, g: &TargetGates) -> Vec<Gate> {
                 Some(t) => {
                     out.push(Gate::at_most("targets", name, t.flash_kinematics_bytes as f64, limit as f64, "bytes"));
                 }
-                None => out.push(Gate::not_run("targets", name, limit as f64, "bytes", true, "missing from the targets file")),
+                None => out.push(Gate::not_run(
+                    "targets",
+                    name,
+                    limit as f64,
+                    "bytes",
+                    true,
+                    "missing from the targets file",
+                )),
             }
         }
     }
     for t in &file.targets {
         let who = format!("{} {}", t.target, t.scalar);
-        out.push(Gate::at_most("targets", format!("{who}: robot value"), t.robot_bytes as f64, g.robot_bytes as f64, "bytes"));
+        out.push(Gate::at_most(
+            "targets",
+            format!("{who}: robot value"),
+            t.robot_bytes as f64,
+            g.robot_bytes as f64,
+            "bytes",
+        ));
         for c in &t.calls {
             out.push(Gate::at_most(
                 "targets",
@@ -490,7 +521,11 @@ fn targets(file: Option<&TargetsFile>, g: &TargetGates) -> Vec<Gate> {
         let (Some(fixed), Some(soft)) = (file.find(target, "fixed"), file.find(target, "f32")) else { continue };
         for (call, words) in CALLS {
             let (Some(f), Some(s)) = (fixed.call(call), soft.call(call)) else { continue };
-            let ratio = if s.worst_instructions == 0 { f64::INFINITY } else { f.worst_instructions as f64 / s.worst_instructions as f64 };
+            let ratio = if s.worst_instructions == 0 {
+                f64::INFINITY
+            } else {
+                f.worst_instructions as f64 / s.worst_instructions as f64
+            };
             let mut gate = Gate::at_most(
                 "targets",
                 format!("{target}: {words} fixed / soft-float f32, worst instructions"),
@@ -527,7 +562,10 @@ mod tests {
     fn defaults_are_the_documented_limits() {
         let d = GateConfig::default();
         assert_eq!(d.accuracy.bounds(), ErrorBounds::default());
-        assert_eq!(d.host_timing, HostTimingGates { f32_inverse_median_ns: 40.0, f32_forward_median_ns: 40.0, enforce: false });
+        assert_eq!(
+            d.host_timing,
+            HostTimingGates { f32_inverse_median_ns: 40.0, f32_forward_median_ns: 40.0, enforce: false }
+        );
         assert_eq!((d.targets.robot_bytes, d.targets.stack_bytes, d.targets.fixed_over_soft_float), (256, 512, 0.3));
         assert_eq!(d.targets.budget[0].inverse_instructions, Some(400));
         assert_eq!(d.targets.budget[1].forward_instructions, Some(2500));

@@ -38,10 +38,16 @@ const CAPTION: u32 = 18;
 /// Colour of a cell no guard accepts.
 const REJECTED: RGBColor = RGBColor(225, 225, 225);
 /// Shades from worst to best.
-const SHADES: [RGBColor; 5] =
-    [RGBColor(215, 48, 39), RGBColor(252, 141, 89), RGBColor(254, 224, 139), RGBColor(145, 207, 96), RGBColor(26, 152, 80)];
+const SHADES: [RGBColor; 6] = [
+    RGBColor(215, 48, 39),
+    RGBColor(252, 141, 89),
+    RGBColor(254, 224, 139),
+    RGBColor(217, 239, 139),
+    RGBColor(145, 207, 96),
+    RGBColor(26, 152, 80),
+];
 /// Bin edges of the normalised margin (1 is the guard boundary).
-const MARGIN_EDGES: [f64; 4] = [1.5, 2.0, 3.0, 5.0];
+const MARGIN_EDGES: [f64; 5] = [2.0, 3.0, 4.0, 5.0, 7.0];
 /// Colours of the three arms.
 const ARMS: [RGBColor; 3] = [RGBColor(31, 119, 180), RGBColor(214, 39, 40), RGBColor(44, 160, 44)];
 /// Rate of the pick-cycle run (Hz).
@@ -68,12 +74,18 @@ fn margin_labels() -> Vec<String> {
         format!("{} to {} x", e[0], e[1]),
         format!("{} to {} x", e[1], e[2]),
         format!("{} to {} x", e[2], e[3]),
-        format!("{} x or more", e[3]),
+        format!("{} to {} x", e[3], e[4]),
+        format!("{} x or more", e[4]),
     ]
 }
 
 /// A legend of coloured boxes and lines, drawn into its own area.
-fn legend(area: &DrawingArea<SVGBackend<'_>, Shift>, title: &str, boxes: &[(RGBColor, String)], lines: &[(RGBColor, &str)]) -> PlotResult<()> {
+fn legend(
+    area: &DrawingArea<SVGBackend<'_>, Shift>,
+    title: &str,
+    boxes: &[(RGBColor, String)],
+    lines: &[(RGBColor, &str)],
+) -> PlotResult<()> {
     let font = ("sans-serif", FONT).into_font();
     area.draw(&Text::new(title.to_owned(), (10, 20), ("sans-serif", FONT + 1).into_font()))?;
     let mut y = 48;
@@ -92,19 +104,43 @@ fn legend(area: &DrawingArea<SVGBackend<'_>, Shift>, title: &str, boxes: &[(RGBC
     Ok(())
 }
 
-/// A shaded square cell per grid point.
+/// A shaded cell per grid point; runs of equal colour along a row or a
+/// column (consecutive in `values`) are drawn as one rectangle, which
+/// keeps the SVG small.
 fn cells<DB: DrawingBackend>(
-    chart: &mut ChartContext<'_, DB, Cartesian2d<plotters::coord::types::RangedCoordf64, plotters::coord::types::RangedCoordf64>>,
+    chart: &mut ChartContext<
+        '_,
+        DB,
+        Cartesian2d<plotters::coord::types::RangedCoordf64, plotters::coord::types::RangedCoordf64>,
+    >,
     values: &[((f64, f64), RGBColor)],
     half: (f64, f64),
 ) -> PlotResult<()>
 where
     DB::ErrorType: 'static,
 {
+    // Neighbours are one cell (2 half-widths) apart; allow rounding.
+    const NEXT_TOL: f64 = 1e-6;
+    let mut runs: Vec<((f64, f64), (f64, f64), RGBColor)> = Vec::new();
+    for &(p, c) in values {
+        if let Some(last) = runs.last_mut() {
+            let (first, end, colour) = *last;
+            let along_b = first.0 == p.0 && end.0 == p.0 && (p.1 - end.1 - 2.0 * half.1).abs() <= NEXT_TOL * half.1;
+            let along_a = first.1 == p.1 && end.1 == p.1 && (p.0 - end.0 - 2.0 * half.0).abs() <= NEXT_TOL * half.0;
+            if colour == c && (along_a || along_b) {
+                last.1 = p;
+                continue;
+            }
+        }
+        runs.push((p, p, c));
+    }
     chart
-        .draw_series(
-            values.iter().map(|&((a, b), c)| Rectangle::new([(a - half.0, b - half.1), (a + half.0, b + half.1)], c.filled())),
-        )
+        .draw_series(runs.iter().map(|&(a, b, c)| {
+            Rectangle::new(
+                [(a.0.min(b.0) - half.0, a.1.min(b.1) - half.1), (a.0.max(b.0) + half.0, a.1.max(b.1) + half.1)],
+                c.filled(),
+            )
+        }))
         .map_err(|e| e.to_string())?;
     Ok(())
 }
@@ -216,8 +252,9 @@ fn workspace_xy(path: &Path, robot: &Robot<f64>, usable: Option<&UsableVolume>, 
             }
         }
     }
-    let boxes: Vec<(RGBColor, String)> =
-        std::iter::once((REJECTED, "rejected by a guard".to_owned())).chain(SHADES.iter().copied().zip(margin_labels())).collect();
+    let boxes: Vec<(RGBColor, String)> = std::iter::once((REJECTED, "rejected by a guard".to_owned()))
+        .chain(SHADES.iter().copied().zip(margin_labels()))
+        .collect();
     legend(
         &legend_area,
         "smaller normalised margin",
@@ -279,8 +316,9 @@ fn workspace_xz(path: &Path, robot: &Robot<f64>, usable: Option<&UsableVolume>, 
             CUBE_COLOUR.stroke_width(3),
         ))?;
     }
-    let boxes: Vec<(RGBColor, String)> =
-        std::iter::once((REJECTED, "rejected by a guard".to_owned())).chain(SHADES.iter().copied().zip(margin_labels())).collect();
+    let boxes: Vec<(RGBColor, String)> = std::iter::once((REJECTED, "rejected by a guard".to_owned()))
+        .chain(SHADES.iter().copied().zip(margin_labels()))
+        .collect();
     legend(
         &legend_area,
         "smaller normalised margin",
@@ -312,7 +350,14 @@ fn f32_ik_error(r64: &Robot<f64>, r32: &Robot<f32>, g32: &Geometry<f64>, p: [f64
     Some((0..3).map(|k| (f64::from(s.joints[k]) - want[k]).abs()).fold(0.0, f64::max))
 }
 
-fn error_map(path: &Path, file: &RobotFile, usable: Option<&UsableVolume>, v: &View, n: usize, bound_rad: f64) -> PlotResult<()> {
+fn error_map(
+    path: &Path,
+    file: &RobotFile,
+    usable: Option<&UsableVolume>,
+    v: &View,
+    n: usize,
+    bound_rad: f64,
+) -> PlotResult<()> {
     let r64 = file.robot::<f64>()?;
     let r32 = file.robot::<f32>()?;
     let g32 = geometry_as_f64(r32.geometry());
@@ -330,12 +375,14 @@ fn error_map(path: &Path, file: &RobotFile, usable: Option<&UsableVolume>, v: &V
         })
         .collect();
     bar.finish_and_clear();
-    let edges = [0.01, 0.03, 0.1, 0.3, 1.0].map(|f| f * bound_rad);
+    // Fractions of the bound: 0.5 %, 1 %, 2 %, 5 %, 10 %, 100 %.
+    let edges = [0.005, 0.01, 0.02, 0.05, 0.1, 1.0].map(|f| f * bound_rad);
     let colours = [
         RGBColor(247, 251, 255),
         RGBColor(198, 219, 239),
         RGBColor(107, 174, 214),
-        RGBColor(33, 113, 181),
+        RGBColor(49, 130, 189),
+        RGBColor(8, 81, 156),
         RGBColor(8, 48, 107),
         RGBColor(215, 48, 39),
     ];
@@ -367,7 +414,10 @@ fn error_map(path: &Path, file: &RobotFile, usable: Option<&UsableVolume>, v: &V
     let mut lines = Vec::new();
     if let Some(u) = usable {
         let half = 0.5 * u.cube.edge_mm;
-        chart.draw_series(LineSeries::new(square(u.cube.centre_mm[0], u.cube.centre_mm[1], half, half), CUBE_COLOUR.stroke_width(3)))?;
+        chart.draw_series(LineSeries::new(
+            square(u.cube.centre_mm[0], u.cube.centre_mm[1], half, half),
+            CUBE_COLOUR.stroke_width(3),
+        ))?;
         lines.push((CUBE_COLOUR, "ISO 9283 test cube"));
     }
     let us = |v: f64| format!("{:.3}", v * 1e6);
@@ -377,7 +427,8 @@ fn error_map(path: &Path, file: &RobotFile, usable: Option<&UsableVolume>, v: &V
         format!("{} to {} µrad", us(edges[1]), us(edges[2])),
         format!("{} to {} µrad", us(edges[2]), us(edges[3])),
         format!("{} to {} µrad", us(edges[3]), us(edges[4])),
-        format!("over the bound, {} µrad", us(edges[4])),
+        format!("{} to {} µrad (bound)", us(edges[4]), us(edges[5])),
+        format!("over the bound, {} µrad", us(edges[5])),
     ];
     let boxes: Vec<(RGBColor, String)> =
         std::iter::once((REJECTED, "rejected by a guard".to_owned())).chain(colours.into_iter().zip(labels)).collect();
@@ -448,7 +499,8 @@ fn profile_chart(
         ))?;
         // One legend entry per distinct label.
         if limits[..i].iter().all(|l| l.1 != label) {
-            anno.label(label).legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 22, y)], limit_colour.stroke_width(2)));
+            anno.label(label)
+                .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 22, y)], limit_colour.stroke_width(2)));
         }
     }
     chart
@@ -464,7 +516,8 @@ fn profile_chart(
 
 /// Writes every plot into `dir` and returns each file name with what it
 /// shows. The pick-cycle plots are skipped, with the reason as the entry,
-/// when the demo moves do not run on this robot.
+/// when the demo moves do not run on this robot. The error map's bins
+/// are fractions of `f32_joint_bound_rad`.
 ///
 /// # Errors
 /// A message when a plot cannot be drawn or written.
@@ -473,6 +526,7 @@ pub fn write_all(
     file: &RobotFile,
     usable: Option<&UsableVolume>,
     ik: Density,
+    f32_joint_bound_rad: f64,
 ) -> Result<Vec<(String, String)>, String> {
     let robot = file.robot::<f64>().map_err(|e| e.to_string())?;
     let v = view(&robot, usable);
@@ -487,11 +541,16 @@ pub fn write_all(
     out.push((name.to_owned(), "four horizontal workspace slices shaded by the smaller normalised margin, with the usable cylinder and test cube".to_owned()));
     let name = "workspace_xz.svg";
     workspace_xz(&dir.join(name), &robot, usable, &v, n).map_err(fail(name))?;
-    out.push((name.to_owned(), "vertical section y = 0 shaded by the smaller normalised margin, with the cylinder and cube".to_owned()));
+    out.push((
+        name.to_owned(),
+        "vertical section y = 0 shaded by the smaller normalised margin, with the cylinder and cube".to_owned(),
+    ));
     let name = "error_map_f32_ik.svg";
-    let gates = crate::gates::AccuracyGates::default();
-    error_map(&dir.join(name), file, usable, &v, n_err, gates.f32_joint_rad).map_err(fail(name))?;
-    out.push((name.to_owned(), "f32 guarded IK joint-angle error against the reference over the slice through the cube centre".to_owned()));
+    error_map(&dir.join(name), file, usable, &v, n_err, f32_joint_bound_rad).map_err(fail(name))?;
+    out.push((
+        name.to_owned(),
+        "f32 guarded IK joint-angle error against the reference over the slice through the cube centre".to_owned(),
+    ));
     match pick_profile(file) {
         Ok((rows, speed_limits)) => {
             let l = &file.limits;
@@ -523,7 +582,8 @@ pub fn write_all(
             .map_err(fail(name))?;
             out.push((name.to_owned(), "joint speeds of the demo pick cycle against the joint speed limit".to_owned()));
         }
-        Err(e) => out.push(("-".to_owned(), format!("pick-cycle plots skipped: the demo moves do not run on this robot ({e})"))),
+        Err(e) => out
+            .push(("-".to_owned(), format!("pick-cycle plots skipped: the demo moves do not run on this robot ({e})"))),
     }
     Ok(out)
 }
@@ -535,9 +595,9 @@ mod tests {
     #[test]
     fn bins_split_at_their_edges() {
         assert_eq!(bin(0.5, &MARGIN_EDGES), 0);
-        assert_eq!(bin(1.5, &MARGIN_EDGES), 1);
+        assert_eq!(bin(2.0, &MARGIN_EDGES), 1);
         assert_eq!(bin(4.9, &MARGIN_EDGES), 3);
-        assert_eq!(bin(50.0, &MARGIN_EDGES), 4);
+        assert_eq!(bin(50.0, &MARGIN_EDGES), 5);
         assert_eq!(margin_labels().len(), SHADES.len());
     }
 }

@@ -181,7 +181,9 @@ pub fn tables(r: &Report) -> String {
 
 fn volume_tables(out: &mut String, v: &VolumeFigures) {
     let c = &v.cylinder;
-    out.push_str("\nUsable volume (every guard passes in f64; upright cylinder and ISO 9283 test cube on the z axis)\n");
+    out.push_str(
+        "\nUsable volume (every guard passes in f64; upright cylinder and ISO 9283 test cube on the z axis)\n",
+    );
     let mut t = Table::new(&["shape", "centre (mm)", "size", "z range (mm)", "volume (litres)"], 3);
     t.row(vec![
         "cylinder".into(),
@@ -206,7 +208,16 @@ fn volume_tables(out: &mut String, v: &VolumeFigures) {
     );
     out.push_str("\nISO 9283 test poses (P1 cube centre; P2..P5 on the diagonals of the plane x = y, 10 % in from the corners)\n");
     let mut t = Table::new(
-        &["pose", "position (mm)", "theta0 (deg)", "theta1 (deg)", "theta2 (deg)", "min serial", "parallel", "max passive tilt (deg)"],
+        &[
+            "pose",
+            "position (mm)",
+            "theta0 (deg)",
+            "theta1 (deg)",
+            "theta2 (deg)",
+            "min serial",
+            "parallel",
+            "max passive tilt (deg)",
+        ],
         2,
     );
     for p in &v.poses {
@@ -232,7 +243,14 @@ fn timing_table(out: &mut String, t: &HostTiming) {
          (cycle columns: share of one control cycle taken by the worst per-call time)",
         t.repeats, t.batch
     );
-    let mut header = vec!["call".to_owned(), "scalar".to_owned(), "points".to_owned(), "median (ns)".to_owned(), "p99.9 (ns)".to_owned(), "worst (ns)".to_owned()];
+    let mut header = vec![
+        "call".to_owned(),
+        "scalar".to_owned(),
+        "points".to_owned(),
+        "median (ns)".to_owned(),
+        "p99.9 (ns)".to_owned(),
+        "worst (ns)".to_owned(),
+    ];
     header.extend(t.rates_hz.iter().map(|hz| format!("{} kHz", hz / 1000.0)));
     let header: Vec<&str> = header.iter().map(String::as_str).collect();
     let mut tab = Table::new(&header, 2);
@@ -283,14 +301,20 @@ fn target_tables(out: &mut String, file: Option<&TargetsFile>) {
     t.render(out);
     let mut t = Table::new(&["target", "scalar", "robot value (B)", "flash IK + FK + guards (B)"], 2);
     for e in &file.targets {
-        t.row(vec![e.target.clone(), e.scalar.clone(), e.robot_bytes.to_string(), e.flash_kinematics_bytes.to_string()]);
+        t.row(vec![
+            e.target.clone(),
+            e.scalar.clone(),
+            e.robot_bytes.to_string(),
+            e.flash_kinematics_bytes.to_string(),
+        ]);
     }
     t.render(out);
 }
 
 fn gate_table(out: &mut String, gates: &[Gate]) {
     out.push_str("\nGates (a figure must be at most its limit; `shown only` gates do not affect the exit status)\n");
-    let mut t = Table::new(&["section", "gate", "measured", "limit", "unit", "verdict", "enforced", "limit from / note"], 2);
+    let mut t =
+        Table::new(&["section", "gate", "measured", "limit", "unit", "verdict", "enforced", "limit from / note"], 2);
     for g in gates {
         t.row(vec![
             g.section.into(),
