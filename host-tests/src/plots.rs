@@ -31,6 +31,9 @@ use crate::volume::UsableVolume;
 
 type PlotResult<T> = Result<T, Box<dyn std::error::Error>>;
 
+/// A run of equal cells: first centre, last centre, colour.
+type Run = ((f64, f64), (f64, f64), RGBColor);
+
 /// Body text (px).
 const FONT: u32 = 15;
 /// Caption text (px).
@@ -121,7 +124,8 @@ where
 {
     // Neighbours are one cell (2 half-widths) apart; allow rounding.
     const NEXT_TOL: f64 = 1e-6;
-    let mut runs: Vec<((f64, f64), (f64, f64), RGBColor)> = Vec::new();
+    // (first cell, last cell, colour) of each run.
+    let mut runs: Vec<Run> = Vec::new();
     for &(p, c) in values {
         if let Some(last) = runs.last_mut() {
             let (first, end, colour) = *last;

@@ -17,7 +17,7 @@ pub fn bar(len: usize, what: &str) -> ProgressBar {
     if !std::io::stderr().is_terminal() {
         return ProgressBar::hidden();
     }
-    let style = ProgressStyle::with_template(TEMPLATE).map_or_else(|_| ProgressStyle::default_bar(), |s| s);
+    let style = ProgressStyle::with_template(TEMPLATE).unwrap_or_else(|_| ProgressStyle::default_bar());
     let bar = ProgressBar::with_draw_target(Some(len as u64), ProgressDrawTarget::stderr())
         .with_style(style.progress_chars("=> "));
     bar.set_message(what.to_owned());

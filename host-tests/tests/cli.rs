@@ -283,8 +283,8 @@ fn report_json_carries_the_usable_volume_and_the_gates() {
         let at: Vec<f64> = p["position_mm"].as_array().unwrap().iter().map(|x| x.as_f64().unwrap()).collect();
         let s = robot_f64.inverse([at[0], at[1], at[2]]).expect("each ISO pose passes the guards");
         let joints: Vec<f64> = p["joints_deg"].as_array().unwrap().iter().map(|x| x.as_f64().unwrap()).collect();
-        for k in 0..3 {
-            assert_eq!(joints[k], s.joints[k].to_degrees());
+        for (got, want) in joints.iter().zip(s.joints) {
+            assert_eq!(*got, want.to_degrees());
         }
         assert_eq!(p["parallel_margin"].as_f64().unwrap(), s.margins.parallel);
     }
