@@ -48,3 +48,27 @@ pub const FIXED_JOINT_ERR_RAD: f64 = 5e-6;
 /// 1.8e-6 lower arms, constant in lower-arm units): 1.4x headroom there,
 /// about 14x on a 720 mm arm.
 pub const FIXED_POS_ERR_MM: f64 = 5e-3;
+
+/// The accuracy bounds a report gates on: the constants above unless a
+/// gate file says otherwise. Index 0 is f64, 1 is f32, 2 is fixed point.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct ErrorBounds {
+    /// Joint-angle bound (rad) per number type.
+    pub joint_rad: [f64; 3],
+    /// Position bound (mm) per number type.
+    pub position_mm: [f64; 3],
+}
+
+/// Names of the joint-angle constants, in [`ErrorBounds`] order.
+pub const JOINT_BOUND_NAMES: [&str; 3] = ["F64_JOINT_ERR_RAD", "F32_JOINT_ERR_RAD", "FIXED_JOINT_ERR_RAD"];
+/// Names of the position constants, in [`ErrorBounds`] order.
+pub const POSITION_BOUND_NAMES: [&str; 3] = ["F64_POS_ERR_MM", "F32_POS_ERR_MM", "FIXED_POS_ERR_MM"];
+
+impl Default for ErrorBounds {
+    fn default() -> Self {
+        Self {
+            joint_rad: [F64_JOINT_ERR_RAD, F32_JOINT_ERR_RAD, FIXED_JOINT_ERR_RAD],
+            position_mm: [F64_POS_ERR_MM, F32_POS_ERR_MM, FIXED_POS_ERR_MM],
+        }
+    }
+}

@@ -13,6 +13,8 @@
 //! passive_cone_deg = 40.0
 //! min_serial_margin = 0.1
 //! min_parallel_margin = 0.1
+//! [gates.accuracy]               # optional: report gates, see crate::gates
+//! f32_joint_rad = 1e-5
 //! ```
 
 use std::path::Path;
@@ -78,6 +80,10 @@ pub struct RobotFile {
     pub geometry: GeometryFile,
     /// Limits.
     pub limits: LimitsFile,
+    /// Optional `[gates]` for `deltakin report` (see [`crate::gates`]);
+    /// checked by the report, ignored by `ik` and `fk`.
+    #[serde(default)]
+    pub gates: Option<toml::Table>,
 }
 
 /// Why a robot file could not be used.

@@ -22,9 +22,10 @@ use serde::Serialize;
 
 use crate::bounds;
 use crate::config::RobotFile;
+use crate::progress;
 use crate::reference;
 use crate::stats::{self, Extreme, Summary};
-use crate::sweep::{self, Density, PointSet, par_map};
+use crate::sweep::{self, Density, PointSet, par_map_progress};
 
 /// Which problem a sweep checks.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -132,8 +133,14 @@ pub struct Findings {
     pub ik: SweepFindings,
     /// The joint sweep (FK).
     pub fk: SweepFindings,
-    /// Every broken bound, in words. Empty when the report passes.
+    /// Every broken bound, in words. Empty when the accuracy gates pass.
     pub breaches: Vec<String>,
+    /// The swept positions the guarded f64 core accepts (mm), for timing.
+    #[serde(skip)]
+    pub ik_accepted: Vec<[f64; 3]>,
+    /// The swept joint triples the guarded f64 core accepts (rad).
+    #[serde(skip)]
+    pub fk_accepted: Vec<[f64; 3]>,
 }
 
 /// Margins at one accepted pose.
@@ -313,17 +320,41 @@ fn units(kind: Kind) -> (&'static str, f64, &'static str, f64) {
     }
 }
 
-fn aggregate(kind: Kind, points: &PointSet, samples: &[Sample], inputs: &[[f64; 3]]) -> SweepFindings {
+/// Names of the gate-file keys that override the joint bounds.
+const GATE_JOINT_NAMES: [&str; 3] =
+    ["gates: accuracy.f64_joint_rad", "gates: accuracy.f32_joint_rad", "gates: accuracy.fixed_joint_rad"];
+/// Names of the gate-file keys that override the position bounds.
+const GATE_POSITION_NAMES: [&str; 3] =
+    ["gates: accuracy.f64_position_mm", "gates: accuracy.f32_position_mm", "gates: accuracy.fixed_position_mm"];
+
+fn aggregate(
+    kind: Kind,
+    points: &PointSet,
+    samples: &[Sample],
+    inputs: &[[f64; 3]],
+    limits: &bounds::ErrorBounds,
+) -> SweepFindings {
     let (input_unit, to_input, error_unit, to_error) = units(kind);
     let show = |p: [f64; 3]| p.map(|v| v * to_input);
     let accepted = samples.iter().filter(|s| s.sides[0].status == "ok").count();
-    let bound_of = |i: usize| match (kind, i) {
-        (Kind::Inverse, 0) => (bounds::F64_JOINT_ERR_RAD, "F64_JOINT_ERR_RAD"),
-        (Kind::Inverse, 1) => (bounds::F32_JOINT_ERR_RAD, "F32_JOINT_ERR_RAD"),
-        (Kind::Inverse, _) => (bounds::FIXED_JOINT_ERR_RAD, "FIXED_JOINT_ERR_RAD"),
-        (Kind::Forward, 0) => (bounds::F64_POS_ERR_MM, "F64_POS_ERR_MM"),
-        (Kind::Forward, 1) => (bounds::F32_POS_ERR_MM, "F32_POS_ERR_MM"),
-        (Kind::Forward, _) => (bounds::FIXED_POS_ERR_MM, "FIXED_POS_ERR_MM"),
+    let defaults = bounds::ErrorBounds::default();
+    let bound_of = |i: usize| match kind {
+        Kind::Inverse => (
+            limits.joint_rad[i],
+            if limits.joint_rad[i] == defaults.joint_rad[i] {
+                bounds::JOINT_BOUND_NAMES[i]
+            } else {
+                GATE_JOINT_NAMES[i]
+            },
+        ),
+        Kind::Forward => (
+            limits.position_mm[i],
+            if limits.position_mm[i] == defaults.position_mm[i] {
+                bounds::POSITION_BOUND_NAMES[i]
+            } else {
+                GATE_POSITION_NAMES[i]
+            },
+        ),
     };
     // A core that is unavailable for this robot has no column.
     let present: Vec<usize> = (0..3).filter(|&i| samples.iter().all(|s| s.sides[i].status != "unavailable")).collect();
@@ -390,10 +421,20 @@ fn aggregate(kind: Kind, points: &PointSet, samples: &[Sample], inputs: &[[f64; 
     }
 }
 
-fn run_sweep(setup: &Setup, kind: Kind, points: &PointSet) -> SweepFindings {
+fn run_sweep(
+    setup: &Setup,
+    kind: Kind,
+    points: &PointSet,
+    limits: &bounds::ErrorBounds,
+) -> (SweepFindings, Vec<[f64; 3]>) {
     let inputs: Vec<[f64; 3]> = points.grid.iter().chain(points.shell.iter()).copied().collect();
-    let samples = par_map(&inputs, &|p| sample(setup, kind, *p));
-    aggregate(kind, points, &samples, &inputs)
+    let what = match kind {
+        Kind::Inverse => "IK cross-check",
+        Kind::Forward => "FK cross-check",
+    };
+    let samples = par_map_progress(&inputs, &|p| sample(setup, kind, *p), &progress::bar(inputs.len(), what));
+    let accepted = samples.iter().zip(&inputs).filter(|(s, _)| s.sides[0].status == "ok").map(|(_, p)| *p).collect();
+    (aggregate(kind, points, &samples, &inputs, limits), accepted)
 }
 
 fn breaches_of(sweep: &SweepFindings) -> Vec<String> {
@@ -433,11 +474,18 @@ fn breaches_of(sweep: &SweepFindings) -> Vec<String> {
 /// Why the cross-check could not start.
 pub type SetupError = crate::config::ConfigError;
 
-/// Sweeps the workspace of `file`'s robot and cross-checks both cores.
+/// Sweeps the workspace of `file`'s robot, cross-checks the cores and
+/// compares their worst errors with `limits`.
 ///
 /// # Errors
 /// When the robot cannot be built in f64 or f32.
-pub fn run(file: &RobotFile, builtin_demo: bool, ik: Density, fk: Density) -> Result<Findings, SetupError> {
+pub fn run(
+    file: &RobotFile,
+    builtin_demo: bool,
+    ik: Density,
+    fk: Density,
+    limits: &bounds::ErrorBounds,
+) -> Result<Findings, SetupError> {
     let r64 = file.robot::<f64>()?;
     let r32 = file.robot::<f32>()?;
     // Outside the fixed-point envelope the report covers the floats only.
@@ -463,9 +511,9 @@ pub fn run(file: &RobotFile, builtin_demo: bool, ik: Density, fk: Density) -> Re
         min_serial_margin: l.min_serial_margin,
         min_parallel_margin: l.min_parallel_margin,
     };
-    let ik = run_sweep(&setup, Kind::Inverse, &sweep::cartesian(&setup.r64, ik));
-    let fk = run_sweep(&setup, Kind::Forward, &sweep::joint(&setup.r64, fk));
+    let (ik, ik_accepted) = run_sweep(&setup, Kind::Inverse, &sweep::cartesian(&setup.r64, ik), limits);
+    let (fk, fk_accepted) = run_sweep(&setup, Kind::Forward, &sweep::joint(&setup.r64, fk), limits);
     let mut breaches = breaches_of(&ik);
     breaches.extend(breaches_of(&fk));
-    Ok(Findings { robot, ik, fk, breaches })
+    Ok(Findings { robot, ik, fk, breaches, ik_accepted, fk_accepted })
 }

@@ -5,8 +5,47 @@ use std::collections::BTreeSet;
 use std::fmt::Write as _;
 use std::path::Path;
 
+use serde::Serialize;
+
 use crate::crosscheck::{Findings, ScalarFindings, SweepFindings};
+use crate::gates::{Gate, GateConfig, TargetsFile, Verdict};
 use crate::stats::Extreme;
+use crate::timing::HostTiming;
+use crate::volume::VolumeFigures;
+
+/// Everything `deltakin report` found and decided: the JSON document.
+///
+/// The cross-check's fields (`robot`, `ik`, `fk`, `breaches`) sit at the
+/// top level, as before the other sections were added.
+#[derive(Clone, Debug, Serialize)]
+pub struct Report {
+    /// Sweeps and accuracy.
+    #[serde(flatten)]
+    pub accuracy: Findings,
+    /// The usable volume; `None` when no point passes the guards.
+    pub volume: Option<VolumeFigures>,
+    /// Host timing; `None` when skipped.
+    pub host_timing: Option<HostTiming>,
+    /// The targets file as read; `None` when none was given.
+    pub targets: Option<TargetsFile>,
+    /// The gate limits in force (defaults, robot file, gate file).
+    pub gate_limits: GateConfig,
+    /// Every gate's verdict.
+    pub gates: Vec<Gate>,
+    /// Whether every enforced gate passed (the exit status is 0 exactly
+    /// then).
+    pub passed: bool,
+    /// SVG files written by `--plots`, with what each shows.
+    pub plots: Vec<(String, String)>,
+}
+
+impl Report {
+    /// Whether every enforced gate passed.
+    #[must_use]
+    pub fn gates_pass(gates: &[Gate]) -> bool {
+        !gates.iter().any(Gate::fails_report)
+    }
+}
 
 /// A table with a header row; the first `left` columns are left-aligned,
 /// the rest right-aligned.
@@ -103,7 +142,197 @@ fn label(s: &SweepFindings) -> String {
 
 /// The whole report as text.
 #[must_use]
-pub fn tables(f: &Findings) -> String {
+pub fn tables(r: &Report) -> String {
+    let mut out = accuracy_tables(&r.accuracy);
+    if let Some(v) = &r.volume {
+        volume_tables(&mut out, v);
+    } else {
+        out.push_str("\nUsable volume: no point passes the guards\n");
+    }
+    match &r.host_timing {
+        Some(t) => timing_table(&mut out, t),
+        None => out.push_str("\nHost timing: skipped\n"),
+    }
+    target_tables(&mut out, r.targets.as_ref());
+    gate_table(&mut out, &r.gates);
+    if !r.plots.is_empty() {
+        out.push_str("\nPlots\n");
+        let mut t = Table::new(&["file", "shows"], 2);
+        for (file, what) in &r.plots {
+            t.row(vec![file.clone(), what.clone()]);
+        }
+        t.render(&mut out);
+    }
+    out.push('\n');
+    let failed: Vec<&Gate> = r.gates.iter().filter(|g| g.fails_report()).collect();
+    if failed.is_empty() {
+        out.push_str("Result: PASS (every enforced gate holds)\n");
+    } else {
+        let _ = writeln!(out, "Result: FAIL ({} enforced gate(s) broken)", failed.len());
+        for g in failed {
+            let _ = writeln!(out, "  - {}: {}", g.section, g.name);
+        }
+        for b in &r.accuracy.breaches {
+            let _ = writeln!(out, "  - {b}");
+        }
+    }
+    out
+}
+
+fn volume_tables(out: &mut String, v: &VolumeFigures) {
+    let c = &v.cylinder;
+    out.push_str(
+        "\nUsable volume (every guard passes in f64; upright cylinder and ISO 9283 test cube on the z axis)\n",
+    );
+    let mut t = Table::new(&["shape", "centre (mm)", "size", "z range (mm)", "volume (litres)"], 3);
+    t.row(vec![
+        "cylinder".into(),
+        point([0.0, 0.0, 0.5 * (c.z_min_mm + c.z_max_mm)]),
+        format!("radius {} mm, height {} mm", num(c.radius_mm), num(c.z_max_mm - c.z_min_mm)),
+        format!("{} .. {}", num(c.z_min_mm), num(c.z_max_mm)),
+        num(v.cylinder_volume_mm3 * 1e-6),
+    ]);
+    let h = 0.5 * v.cube.edge_mm;
+    t.row(vec![
+        "ISO 9283 cube".into(),
+        point(v.cube.centre_mm),
+        format!("edge {} mm", num(v.cube.edge_mm)),
+        format!("{} .. {}", num(v.cube.centre_mm[2] - h), num(v.cube.centre_mm[2] + h)),
+        num(v.cube_volume_mm3 * 1e-6),
+    ]);
+    t.render(out);
+    let _ = writeln!(
+        out,
+        "  (search: {} heights, {} directions per height, {} points per cube edge)",
+        v.levels, v.rays, v.cube_points
+    );
+    out.push_str("\nISO 9283 test poses (P1 cube centre; P2..P5 on the diagonals of the plane x = y, 10 % in from the corners)\n");
+    let mut t = Table::new(
+        &[
+            "pose",
+            "position (mm)",
+            "theta0 (deg)",
+            "theta1 (deg)",
+            "theta2 (deg)",
+            "min serial",
+            "parallel",
+            "max passive tilt (deg)",
+        ],
+        2,
+    );
+    for p in &v.poses {
+        t.row(vec![
+            p.label.into(),
+            point(p.position_mm),
+            format!("{:.3}", p.joints_deg[0]),
+            format!("{:.3}", p.joints_deg[1]),
+            format!("{:.3}", p.joints_deg[2]),
+            num(p.serial_margin.iter().copied().fold(f64::INFINITY, f64::min)),
+            num(p.parallel_margin),
+            num(p.max_passive_tilt_deg),
+        ]);
+    }
+    t.render(out);
+}
+
+fn timing_table(out: &mut String, t: &HostTiming) {
+    let build = if t.optimised_build { "" } else { " -- DEBUG BUILD, not representative" };
+    let _ = writeln!(
+        out,
+        "\nHost timing per call over the accepted sweep points (fastest of {} batches of {} calls per point){build}\n\
+         (cycle columns: share of one control cycle taken by the worst per-call time)",
+        t.repeats, t.batch
+    );
+    let mut header = vec![
+        "call".to_owned(),
+        "scalar".to_owned(),
+        "points".to_owned(),
+        "median (ns)".to_owned(),
+        "p99.9 (ns)".to_owned(),
+        "worst (ns)".to_owned(),
+    ];
+    header.extend(t.rates_hz.iter().map(|hz| format!("{} kHz", hz / 1000.0)));
+    let header: Vec<&str> = header.iter().map(String::as_str).collect();
+    let mut tab = Table::new(&header, 2);
+    for c in &t.calls {
+        let mut row = vec![
+            match c.call {
+                "inverse" => "guarded IK".to_owned(),
+                "forward" => "guarded FK".to_owned(),
+                _ => "setpoint step".to_owned(),
+            },
+            c.scalar.to_owned(),
+            c.points.to_string(),
+            num(c.median_ns),
+            num(c.p999_ns),
+            num(c.worst_ns),
+        ];
+        row.extend(c.worst_cycle_share.iter().map(|s| format!("{} %", num(100.0 * s))));
+        tab.row(row);
+    }
+    tab.render(out);
+}
+
+fn target_tables(out: &mut String, file: Option<&TargetsFile>) {
+    let Some(file) = file else {
+        out.push_str("\nTargets (emulated Cortex-M): not run (no --targets FILE; ci/target-report.sh writes one)\n");
+        return;
+    };
+    out.push_str("\nTargets (emulated Cortex-M, from the targets file)\n");
+    let mut t = Table::new(
+        &["target", "board", "scalar", "call", "points", "median instr", "worst instr", "stack (B)", "flash (B)"],
+        4,
+    );
+    for e in &file.targets {
+        for c in &e.calls {
+            t.row(vec![
+                e.target.clone(),
+                e.board.clone(),
+                e.scalar.clone(),
+                c.call.clone(),
+                c.points.to_string(),
+                c.median_instructions.to_string(),
+                c.worst_instructions.to_string(),
+                c.stack_bytes.to_string(),
+                c.flash_bytes.to_string(),
+            ]);
+        }
+    }
+    t.render(out);
+    let mut t = Table::new(&["target", "scalar", "robot value (B)", "flash IK + FK + guards (B)"], 2);
+    for e in &file.targets {
+        t.row(vec![
+            e.target.clone(),
+            e.scalar.clone(),
+            e.robot_bytes.to_string(),
+            e.flash_kinematics_bytes.to_string(),
+        ]);
+    }
+    t.render(out);
+}
+
+fn gate_table(out: &mut String, gates: &[Gate]) {
+    out.push_str("\nGates (a figure must be at most its limit; `shown only` gates do not affect the exit status)\n");
+    let mut t =
+        Table::new(&["section", "gate", "measured", "limit", "unit", "verdict", "enforced", "limit from / note"], 2);
+    for g in gates {
+        t.row(vec![
+            g.section.into(),
+            g.name.clone(),
+            g.measured.map_or_else(|| "-".to_owned(), num),
+            if g.verdict == Verdict::NotRun && g.unit == "-" { "-".to_owned() } else { num(g.limit) },
+            g.unit.into(),
+            g.verdict.word().into(),
+            if g.enforced { "yes".into() } else { "shown only".into() },
+            g.note.clone(),
+        ]);
+    }
+    t.render(out);
+}
+
+/// The cross-check's tables (robot, sweeps, accuracy, margins, status).
+#[must_use]
+pub fn accuracy_tables(f: &Findings) -> String {
     let mut out = String::new();
     let r = &f.robot;
     let origin = if r.builtin_demo { " (built-in demo robot)" } else { "" };
@@ -191,15 +420,6 @@ pub fn tables(f: &Findings) -> String {
         t.render(&mut out);
     }
 
-    out.push('\n');
-    if f.breaches.is_empty() {
-        out.push_str("Result: PASS (every bound in host-tests/src/bounds.rs holds)\n");
-    } else {
-        let _ = writeln!(out, "Result: FAIL ({} broken)", f.breaches.len());
-        for b in &f.breaches {
-            let _ = writeln!(out, "  - {b}");
-        }
-    }
     out
 }
 
@@ -217,16 +437,16 @@ fn status_row(s: &SweepFindings, c: &ScalarFindings, words: &BTreeSet<&str>) -> 
 ///
 /// # Errors
 /// When serialisation fails (it does not for these types).
-pub fn json(f: &Findings) -> Result<String, serde_json::Error> {
-    serde_json::to_string_pretty(f)
+pub fn json(r: &Report) -> Result<String, serde_json::Error> {
+    serde_json::to_string_pretty(r)
 }
 
 /// Writes [`json`] to `path`.
 ///
 /// # Errors
 /// The I/O or serialisation error, as text naming the file.
-pub fn write_json(f: &Findings, path: &Path) -> Result<(), String> {
-    let text = json(f).map_err(|e| format!("cannot encode the report as JSON: {e}"))?;
+pub fn write_json(r: &Report, path: &Path) -> Result<(), String> {
+    let text = json(r).map_err(|e| format!("cannot encode the report as JSON: {e}"))?;
     std::fs::write(path, text + "\n").map_err(|e| format!("cannot write {}: {e}", path.display()))
 }
 

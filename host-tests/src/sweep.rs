@@ -19,6 +19,7 @@
 //! Everything is deterministic: same robot and density, same points.
 
 use deltakin::{Geometry, Limits, Robot};
+use rayon::prelude::*;
 use serde::Serialize;
 
 /// An axis-aligned box (mm for positions, rad for joint angles).
@@ -264,15 +265,28 @@ impl Density {
     }
 }
 
-/// Runs `f` over `items` on all available cores, results in input order.
+/// Runs `f` over `items` on all available cores (rayon), results in
+/// input order.
 pub fn par_map<T: Sync, R: Send>(items: &[T], f: &(dyn Fn(&T) -> R + Sync)) -> Vec<R> {
-    let threads = std::thread::available_parallelism().map_or(1, std::num::NonZero::get);
-    let chunk = items.len().div_ceil(threads.max(1)).max(1);
-    std::thread::scope(|s| {
-        let handles: Vec<_> =
-            items.chunks(chunk).map(|part| s.spawn(move || part.iter().map(f).collect::<Vec<R>>())).collect();
-        handles.into_iter().flat_map(|h| h.join().unwrap_or_else(|e| std::panic::resume_unwind(e))).collect()
-    })
+    items.par_iter().map(f).collect()
+}
+
+/// [`par_map`] that advances `bar` by one per item.
+pub fn par_map_progress<T: Sync, R: Send>(
+    items: &[T],
+    f: &(dyn Fn(&T) -> R + Sync),
+    bar: &indicatif::ProgressBar,
+) -> Vec<R> {
+    let out = items
+        .par_iter()
+        .map(|x| {
+            let r = f(x);
+            bar.inc(1);
+            r
+        })
+        .collect();
+    bar.finish_and_clear();
+    out
 }
 
 fn accepted_of(points: &[[f64; 3]], accept: &(dyn Fn([f64; 3]) -> bool + Sync)) -> Vec<[f64; 3]> {

@@ -25,6 +25,8 @@
 //!   uses the diagonal plane through the edges at (-h, -h) and (+h, +h).
 
 use deltakin::{Robot, Solution};
+use rayon::prelude::*;
+use serde::Serialize;
 
 /// Sampling density for the volume search.
 #[derive(Clone, Copy, Debug)]
@@ -44,7 +46,7 @@ impl Default for VolumeGrid {
 }
 
 /// An upright cylinder on the z axis (mm).
-#[derive(Clone, Copy, Debug, PartialEq)]
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
 pub struct Cylinder {
     /// Radius.
     pub radius_mm: f64,
@@ -63,7 +65,7 @@ impl Cylinder {
 }
 
 /// An axis-aligned cube centred on the z axis (mm).
-#[derive(Clone, Copy, Debug, PartialEq)]
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
 pub struct Cube {
     /// Centre.
     pub centre_mm: [f64; 3],
@@ -165,6 +167,7 @@ pub fn usable_volume(robot: &Robot<f64>, grid: VolumeGrid) -> Option<UsableVolum
     let levels = grid.levels.max(2);
     let z_at = |i: usize| z_lo + (z_hi - z_lo) * (i as f64) / ((levels - 1) as f64);
     let radii: Vec<f64> = (0..levels)
+        .into_par_iter()
         .map(|i| {
             (0..grid.rays)
                 .map(|k| ray_extent(robot, z_at(i), std::f64::consts::TAU * (k as f64) / (grid.rays as f64), max_r))
@@ -185,23 +188,30 @@ pub fn usable_volume(robot: &Robot<f64>, grid: VolumeGrid) -> Option<UsableVolum
             }
         }
     }
-    let mut cube = Cube { centre_mm: [0.0, 0.0, z_lo], edge_mm: 0.0 };
-    for i in 0..levels {
-        let centre = [0.0, 0.0, z_at(i)];
-        if !usable(robot, centre) {
-            continue;
-        }
-        let (mut inside, mut outside) = (0.0, 0.5 * (z_hi - z_lo) + 1.0);
-        for _ in 0..30 {
-            let mid = 0.5 * (inside + outside);
-            if cube_fits(robot, centre, mid, grid.cube_points) {
-                inside = mid;
-            } else {
-                outside = mid;
+    // Largest cube per centre height (in parallel), then the first largest.
+    let halves: Vec<f64> = (0..levels)
+        .into_par_iter()
+        .map(|i| {
+            let centre = [0.0, 0.0, z_at(i)];
+            if !usable(robot, centre) {
+                return 0.0;
             }
-        }
-        if 2.0 * inside > cube.edge_mm {
-            cube = Cube { centre_mm: centre, edge_mm: 2.0 * inside };
+            let (mut inside, mut outside) = (0.0, 0.5 * (z_hi - z_lo) + 1.0);
+            for _ in 0..30 {
+                let mid = 0.5 * (inside + outside);
+                if cube_fits(robot, centre, mid, grid.cube_points) {
+                    inside = mid;
+                } else {
+                    outside = mid;
+                }
+            }
+            inside
+        })
+        .collect();
+    let mut cube = Cube { centre_mm: [0.0, 0.0, z_lo], edge_mm: 0.0 };
+    for (i, &half) in halves.iter().enumerate() {
+        if 2.0 * half > cube.edge_mm {
+            cube = Cube { centre_mm: [0.0, 0.0, z_at(i)], edge_mm: 2.0 * half };
         }
     }
     let poses = iso9283_points(&cube)
@@ -209,6 +219,77 @@ pub fn usable_volume(robot: &Robot<f64>, grid: VolumeGrid) -> Option<UsableVolum
         .filter_map(|(label, p)| robot.inverse(p).ok().map(|solution| TestPose { label, solution }))
         .collect();
     Some(UsableVolume { cylinder, cube, poses })
+}
+
+/// One ISO 9283 pose as the report shows it.
+#[derive(Clone, Debug, Serialize)]
+pub struct PoseFigures {
+    /// "P1" .. "P5".
+    pub label: &'static str,
+    /// Platform position (mm).
+    pub position_mm: [f64; 3],
+    /// Joint angles (deg).
+    pub joints_deg: [f64; 3],
+    /// Serial margin of each arm (1 far from the singularity, 0 at it).
+    pub serial_margin: [f64; 3],
+    /// Parallel margin.
+    pub parallel_margin: f64,
+    /// Largest passive-joint tilt from its neutral axis (deg).
+    pub max_passive_tilt_deg: f64,
+}
+
+/// The usable volume as the report shows it.
+#[derive(Clone, Debug, Serialize)]
+pub struct VolumeFigures {
+    /// The largest upright cylinder on the z axis.
+    pub cylinder: Cylinder,
+    /// Its volume (mm^3).
+    pub cylinder_volume_mm3: f64,
+    /// The ISO 9283 test cube.
+    pub cube: Cube,
+    /// Its volume (mm^3).
+    pub cube_volume_mm3: f64,
+    /// P1 .. P5 with joint angles and margins.
+    pub poses: Vec<PoseFigures>,
+    /// Heights sampled, directions per height, points per cube edge.
+    pub levels: usize,
+    #[allow(missing_docs)]
+    pub rays: usize,
+    #[allow(missing_docs)]
+    pub cube_points: usize,
+}
+
+impl VolumeFigures {
+    /// The figures of `v`, found with `grid`.
+    #[must_use]
+    pub fn of(v: &UsableVolume, grid: VolumeGrid) -> Self {
+        let poses = v
+            .poses
+            .iter()
+            .map(|p| {
+                let s = &p.solution;
+                let min_cos = s.margins.passive_tilt_cos.iter().flatten().copied().fold(f64::INFINITY, f64::min);
+                PoseFigures {
+                    label: p.label,
+                    position_mm: s.position,
+                    joints_deg: s.joints.map(f64::to_degrees),
+                    serial_margin: s.margins.serial,
+                    parallel_margin: s.margins.parallel,
+                    max_passive_tilt_deg: min_cos.clamp(-1.0, 1.0).acos().to_degrees(),
+                }
+            })
+            .collect();
+        Self {
+            cylinder: v.cylinder,
+            cylinder_volume_mm3: v.cylinder.volume_mm3(),
+            cube: v.cube,
+            cube_volume_mm3: v.cube.edge_mm.powi(3),
+            poses,
+            levels: grid.levels,
+            rays: grid.rays,
+            cube_points: grid.cube_points,
+        }
+    }
 }
 
 /// The five ISO 9283 poses of a cube: P1 at the centre of the diagonal

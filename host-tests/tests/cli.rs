@@ -24,7 +24,12 @@ fn run(args: &[&str], stdin: &str) -> Output {
         .stderr(Stdio::piped())
         .spawn()
         .expect("start deltakin");
-    child.stdin.take().expect("stdin").write_all(stdin.as_bytes()).expect("write stdin");
+    // A command that fails before reading stdin closes it: a broken pipe
+    // here is that, not an error of the test.
+    match child.stdin.take().expect("stdin").write_all(stdin.as_bytes()) {
+        Err(e) if e.kind() != std::io::ErrorKind::BrokenPipe => panic!("write stdin: {e}"),
+        _ => {}
+    }
     child.wait_with_output().expect("deltakin output")
 }
 
@@ -231,4 +236,164 @@ fn report_on_a_small_robot_passes_and_prints_its_tables() {
         }
     }
     assert_eq!(figures["breaches"].as_array().map(Vec::len), Some(0));
+}
+
+/// The small robot of the report tests: quick sweeps, no timing.
+fn small_robot(extra: &str) -> PathBuf {
+    temp_file(
+        &format!("small_robot_{}.toml", extra.len()),
+        &format!(
+            "name = \"bench-top-sorter\"\n\
+             [geometry]\nbase_radius_mm = 90.0\nplatform_radius_mm = 25.0\nupper_arm_mm = 150.0\nlower_arm_mm = 380.0\n\
+             [limits]\njoint_min_deg = -30.0\njoint_max_deg = [80.0, 82.0, 84.0]\npassive_cone_deg = 38.0\n\
+             min_serial_margin = 0.15\nmin_parallel_margin = 0.2\n{extra}"
+        ),
+    )
+}
+
+const QUICK: [&str; 5] = ["--ik-grid", "6", "--fk-grid", "8", "--no-timing"];
+
+#[test]
+fn report_json_carries_the_usable_volume_and_the_gates() {
+    let robot = small_robot("");
+    let json = PathBuf::from(env!("CARGO_TARGET_TMPDIR")).join("volume_report.json");
+    let _ = std::fs::remove_file(&json);
+    let mut args = vec!["report", "--robot", robot.to_str().unwrap(), "--json", json.to_str().unwrap()];
+    args.extend(QUICK);
+    let out = run(&args, "");
+    assert_eq!(out.status.code(), Some(0), "{}", String::from_utf8_lossy(&out.stderr));
+    let text = String::from_utf8_lossy(&out.stdout);
+    for heading in ["Usable volume", "ISO 9283 test poses", "Gates", "Targets (emulated Cortex-M): not run"] {
+        assert!(text.contains(heading), "missing {heading}:\n{text}");
+    }
+    let figures: serde_json::Value = serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap();
+    let v = &figures["volume"];
+    let c = &v["cylinder"];
+    let (r, z0, z1) =
+        (c["radius_mm"].as_f64().unwrap(), c["z_min_mm"].as_f64().unwrap(), c["z_max_mm"].as_f64().unwrap());
+    assert!(r > 0.0 && z0 < z1 && z1 < 0.0, "{c}");
+    let volume = v["cylinder_volume_mm3"].as_f64().unwrap();
+    const REL: f64 = 1e-12;
+    assert!((volume - std::f64::consts::PI * r * r * (z1 - z0)).abs() <= REL * volume);
+    assert!(v["cube"]["edge_mm"].as_f64().unwrap() > 0.0);
+    let poses = v["poses"].as_array().unwrap();
+    assert_eq!(poses.len(), 5);
+    let robot_f64 = RobotFile::parse(&std::fs::read_to_string(&robot).unwrap()).unwrap().robot::<f64>().unwrap();
+    for p in poses {
+        let at: Vec<f64> = p["position_mm"].as_array().unwrap().iter().map(|x| x.as_f64().unwrap()).collect();
+        let s = robot_f64.inverse([at[0], at[1], at[2]]).expect("each ISO pose passes the guards");
+        let joints: Vec<f64> = p["joints_deg"].as_array().unwrap().iter().map(|x| x.as_f64().unwrap()).collect();
+        for (got, want) in joints.iter().zip(s.joints) {
+            assert_eq!(*got, want.to_degrees());
+        }
+        assert_eq!(p["parallel_margin"].as_f64().unwrap(), s.margins.parallel);
+    }
+    assert!(figures["host_timing"].is_null());
+    assert!(figures["targets"].is_null());
+    assert_eq!(figures["passed"], true);
+    let gates = figures["gates"].as_array().unwrap();
+    assert!(gates.iter().any(|g| g["section"] == "targets" && g["verdict"] == "not_run" && g["enforced"] == false));
+}
+
+#[test]
+fn a_failing_gate_exits_1_and_a_bad_gate_file_exits_2() {
+    let robot = small_robot("");
+    // An f32 bound far below any f32 computation (1e-12 rad) must fail.
+    let gates = temp_file("tight_gates.toml", "[accuracy]\nf32_joint_rad = 1e-12\n");
+    let mut args = vec!["report", "--robot", robot.to_str().unwrap(), "--gates", gates.to_str().unwrap()];
+    args.extend(QUICK);
+    let out = run(&args, "");
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert_eq!(out.status.code(), Some(1), "{text}");
+    assert!(text.contains("Result: FAIL") && text.contains("f32 IK joint-angle error"), "{text}");
+    assert!(text.contains("gates: accuracy.f32_joint_rad"), "{text}");
+    // The same limit in the robot file's [gates] table.
+    let strict = small_robot("[gates.accuracy]\nf32_joint_rad = 1e-12\n");
+    let mut args = vec!["report", "--robot", strict.to_str().unwrap()];
+    args.extend(QUICK);
+    assert_eq!(run(&args, "").status.code(), Some(1));
+    // A required targets section without a targets file fails too.
+    let required = temp_file("required_targets.toml", "[targets]\nrequired = true\n");
+    let mut args = vec!["report", "--robot", robot.to_str().unwrap(), "--gates", required.to_str().unwrap()];
+    args.extend(QUICK);
+    assert_eq!(run(&args, "").status.code(), Some(1));
+    // An unknown key is a configuration problem.
+    let bad = temp_file("bad_gates.toml", "[accuracy]\nf32_joint_urad = 10.0\n");
+    let mut args = vec!["report", "--robot", robot.to_str().unwrap(), "--gates", bad.to_str().unwrap()];
+    args.extend(QUICK);
+    let out = run(&args, "");
+    assert_eq!(out.status.code(), Some(EXIT_USAGE));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("f32_joint_urad"));
+}
+
+#[test]
+fn a_targets_file_is_gated() {
+    let robot = small_robot("");
+    let call = |name: &str, worst: u32| {
+        format!(
+            "{{\"call\":\"{name}\",\"points\":50,\"worst_instructions\":{worst},\"median_instructions\":{},\
+             \"stack_bytes\":200,\"flash_bytes\":1500}}",
+            worst / 2
+        )
+    };
+    let entry = |target: &str, scalar: &str, calls: &[String]| {
+        format!(
+            "{{\"target\":\"{target}\",\"board\":\"b\",\"scalar\":\"{scalar}\",\"robot_bytes\":120,\
+             \"calls\":[{}],\"flash_kinematics_bytes\":6000}}",
+            calls.join(",")
+        )
+    };
+    let file = |ik_worst: u32| {
+        format!(
+            "{{\"targets\":[{},{}]}}",
+            entry(
+                "thumbv7em-none-eabihf",
+                "f32",
+                &[call("inverse", ik_worst), call("forward", 250), call("setpoint_step", 800)]
+            ),
+            entry("thumbv6m-none-eabi", "fixed", &[call("inverse", 2500), call("forward", 2000)])
+        )
+    };
+    for (ik_worst, status) in [(390, 0), (401, 1)] {
+        let targets = temp_file(&format!("targets_{ik_worst}.json"), &file(ik_worst));
+        let mut args = vec!["report", "--robot", robot.to_str().unwrap(), "--targets", targets.to_str().unwrap()];
+        args.extend(QUICK);
+        let out = run(&args, "");
+        let text = String::from_utf8_lossy(&out.stdout);
+        assert_eq!(out.status.code(), Some(status), "IK worst {ik_worst}:\n{text}");
+        assert!(text.contains("thumbv7em-none-eabihf f32: IK, worst instructions"), "{text}");
+    }
+}
+
+#[test]
+fn plots_are_svg_files_with_axis_labels() {
+    let dir = PathBuf::from(env!("CARGO_TARGET_TMPDIR")).join("report_plots");
+    let _ = std::fs::remove_dir_all(&dir);
+    // The demo robot, so the demo pick cycle runs on it.
+    let mut args = vec!["report", "--plots", dir.to_str().unwrap()];
+    args.extend(QUICK);
+    let out = run(&args, "");
+    assert_eq!(out.status.code(), Some(0), "{}", String::from_utf8_lossy(&out.stderr));
+    let want: [(&str, &[&str]); 5] = [
+        ("workspace_xy.svg", &["x (mm)", "y (mm)", "usable cylinder", "ISO 9283 test cube"]),
+        ("workspace_xz.svg", &["x (mm)", "z (mm)", "rejected by a guard"]),
+        ("error_map_f32_ik.svg", &["x (mm)", "y (mm)", "µrad"]),
+        ("pick_joint_angles.svg", &["time (s)", "joint angle (deg)", "joint range", "arm 0"]),
+        ("pick_joint_speeds.svg", &["time (s)", "joint speed (deg/s)", "joint speed limit"]),
+    ];
+    for (name, labels) in want {
+        let svg = std::fs::read_to_string(dir.join(name)).unwrap_or_else(|e| panic!("{name}: {e}"));
+        assert!(svg.starts_with("<svg") || svg.starts_with("<?xml"), "{name}");
+        // The contents of every <text> element: labels are SVG text, not paths.
+        let texts: Vec<&str> = svg
+            .split("<text")
+            .skip(1)
+            .filter_map(|t| {
+                t.split_once('>').and_then(|(_, rest)| rest.split_once("</text>")).map(|(body, _)| body.trim())
+            })
+            .collect();
+        for label in labels {
+            assert!(texts.iter().any(|t| t.contains(label)), "{name}: no text {label} in {texts:?}");
+        }
+    }
 }
