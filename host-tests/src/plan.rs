@@ -62,38 +62,33 @@ use deltakin::Real;
 use deltakin::motion::{Bounds, JointRateLimits, Law, MotionError, Move, Stream};
 use serde::Deserialize;
 
+use crate::cli::ScalarKind;
 use crate::config::{ConfigError, PerArm, RobotFile};
 
 /// Moves the stream's queue holds (the one running included).
 pub const QUEUE_CAPACITY: usize = 8;
 
-/// The number type the stream runs in.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-#[non_exhaustive]
-pub enum ScalarKind {
-    /// Single precision, the firmware path.
-    F32,
-    /// Double precision.
-    F64,
+/// Significant digits that round-trip a value of this number type in the
+/// CSV (9 for `f32`, 17 for `f64`). Fixed point: 12, which resolves every
+/// value the stream prints below its least significant bit (positions in
+/// Q18.14 mm below 10 m to 1e-8 mm against an LSB of 6.1e-5 mm; angles in
+/// Q7.25 rad, printed in degrees, to 1e-9 deg against 1.7e-6 deg).
+#[must_use]
+pub const fn digits(scalar: ScalarKind) -> usize {
+    match scalar {
+        ScalarKind::F32 => 9,
+        ScalarKind::F64 => 17,
+        ScalarKind::Fixed => 12,
+    }
 }
 
-impl ScalarKind {
-    /// Significant digits that round-trip this type.
-    #[must_use]
-    pub const fn digits(self) -> usize {
-        match self {
-            ScalarKind::F32 => 9,
-            ScalarKind::F64 => 17,
-        }
-    }
-
-    /// The name used on the command line.
-    #[must_use]
-    pub const fn name(self) -> &'static str {
-        match self {
-            ScalarKind::F32 => "f32",
-            ScalarKind::F64 => "f64",
-        }
+/// The name of a number type on the command line.
+#[must_use]
+pub const fn scalar_name(scalar: ScalarKind) -> &'static str {
+    match scalar {
+        ScalarKind::F32 => "f32",
+        ScalarKind::F64 => "f64",
+        ScalarKind::Fixed => "fixed",
     }
 }
 
@@ -227,6 +222,8 @@ pub enum PlanError {
         /// `error.cycle` in seconds from the move's start.
         time_s: f64,
     },
+    /// The number type cannot run a plan yet.
+    Unsupported(ScalarKind),
     /// The stream stopped while running (never for validated moves).
     Stream(MotionError),
     /// Writing the CSV failed.
@@ -243,6 +240,9 @@ impl fmt::Display for PlanError {
             PlanError::Start(e) => write!(f, "cannot start: {e}"),
             PlanError::Move { index, error, time_s } => {
                 write!(f, "move {index} refused at t = {time_s:.6} s into the move: {}", error.fault)
+            }
+            PlanError::Unsupported(s) => {
+                write!(f, "--scalar {} is not yet supported by plan (use f32 or f64)", scalar_name(*s))
             }
             PlanError::Stream(e) => write!(f, "stream stopped: {e}"),
             PlanError::Io(e) => write!(f, "cannot write output: {e}"),
@@ -292,7 +292,7 @@ impl fmt::Display for Summary {
             self.moves,
             self.setpoints,
             self.rate_hz,
-            self.scalar.name(),
+            scalar_name(self.scalar),
             self.duration_s
         )?;
         for arm in 0..3 {
@@ -451,7 +451,7 @@ pub fn run_with<S: Real<Wide = S>>(
     if !(rate_hz.is_finite() && rate_hz > 0.0) {
         return Err(PlanError::Rate(rate_hz));
     }
-    let digits = scalar.digits();
+    let digits = digits(scalar);
     let robot = robot_file.robot::<S>().map_err(PlanError::Robot)?;
     let period: S = conv(1.0 / rate_hz, "the cycle period").map_err(|_| PlanError::Rate(rate_hz))?;
     let period_f64 = period.to_f64();
@@ -528,6 +528,7 @@ pub fn run(
     match scalar {
         ScalarKind::F32 => run_with::<f32>(robot_file, &moves, rate_hz, scalar, out),
         ScalarKind::F64 => run_with::<f64>(robot_file, &moves, rate_hz, scalar, out),
+        ScalarKind::Fixed => Err(PlanError::Unsupported(scalar)),
     }
 }
 
@@ -563,7 +564,7 @@ mod tests {
                 let fields: Vec<&str> = line.split(',').collect();
                 assert_eq!(fields.len(), 10);
                 let mantissa = fields[1].split('e').next().unwrap().trim_start_matches('-');
-                assert_eq!(mantissa.len(), scalar.digits() + 1, "{line}");
+                assert_eq!(mantissa.len(), digits(scalar) + 1, "{line}");
             }
             assert!(!format!("{s}").is_empty());
         }
