@@ -275,6 +275,7 @@ fn a_million_setpoints_of_a_closed_pick_cycle_end_where_they_started() {
     let mut leg = 0u64;
     let mut worst_return = 0.0f64;
     let mut last = [0.0f32; 3];
+    let mut stopping = false;
     while emitted < DRIFT_SETPOINTS || !stream.is_empty() {
         let Some(step) = stream.next_setpoint().expect("streams") else { break };
         emitted += 1;
@@ -285,7 +286,10 @@ fn a_million_setpoints_of_a_closed_pick_cycle_end_where_they_started() {
                 let d = dist(last, a);
                 worst_return = worst_return.max(d);
             }
-            if emitted < DRIFT_SETPOINTS {
+            // The queue already holds leg `leg + 1`; past the count, stop
+            // pushing once that one closes the cycle (an even leg).
+            stopping |= emitted >= DRIFT_SETPOINTS && leg % 2 == 1;
+            if !stopping {
                 let next = if leg % 2 == 1 { there } else { back };
                 stream.push_planned(next).expect("queued again");
             }
