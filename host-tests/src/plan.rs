@@ -58,8 +58,8 @@
 use std::fmt;
 use std::io::Write;
 
-use deltakin::Real;
 use deltakin::motion::{Bounds, JointRateLimits, Law, MotionError, Move, Stream};
+use deltakin::{Arith, Fixed, Real};
 use serde::Deserialize;
 
 use crate::cli::ScalarKind;
@@ -222,8 +222,6 @@ pub enum PlanError {
         /// `error.cycle` in seconds from the move's start.
         time_s: f64,
     },
-    /// The number type cannot run a plan yet.
-    Unsupported(ScalarKind),
     /// The stream stopped while running (never for validated moves).
     Stream(MotionError),
     /// Writing the CSV failed.
@@ -240,9 +238,6 @@ impl fmt::Display for PlanError {
             PlanError::Start(e) => write!(f, "cannot start: {e}"),
             PlanError::Move { index, error, time_s } => {
                 write!(f, "move {index} refused at t = {time_s:.6} s into the move: {}", error.fault)
-            }
-            PlanError::Unsupported(s) => {
-                write!(f, "--scalar {} is not yet supported by plan (use f32 or f64)", scalar_name(*s))
             }
             PlanError::Stream(e) => write!(f, "stream stopped: {e}"),
             PlanError::Io(e) => write!(f, "cannot write output: {e}"),
@@ -383,11 +378,11 @@ impl MovesFile {
     }
 }
 
-fn conv<S: Real>(v: f64, what: &'static str) -> Result<S, PlanError> {
+fn conv<S: Arith>(v: f64, what: &'static str) -> Result<S, PlanError> {
     S::from_f64(v).ok_or(PlanError::Unrepresentable(what))
 }
 
-fn conv3<S: Real>(v: [f64; 3], what: &'static str) -> Result<[S; 3], PlanError> {
+fn conv3<S: Arith>(v: [f64; 3], what: &'static str) -> Result<[S; 3], PlanError> {
     Ok([conv(v[0], what)?, conv(v[1], what)?, conv(v[2], what)?])
 }
 
@@ -435,13 +430,15 @@ fn row(out: &mut dyn Write, t: f64, p: [f64; 3], q: [f64; 3], w: [f64; 3], digit
 pub const CSV_HEADER: &str =
     "t_s,x_mm,y_mm,z_mm,theta0_deg,theta1_deg,theta2_deg,omega0_deg_s,omega1_deg_s,omega2_deg_s";
 
-/// Runs `moves` on `robot_file` at `rate_hz` in number type `S`, writing
-/// CSV with `digits` significant digits to `out`.
+/// Runs `moves` on `robot_file` at `rate_hz`, streaming in number type
+/// `S` with the moves planned in the float type `P` (`P = S` for floats,
+/// `f32` for fixed point, as on a target), writing CSV with the digits of
+/// `scalar` to `out`.
 ///
 /// # Errors
 /// See [`PlanError`]: a move refused (with its index and the first
 /// offending time within it), the robot, the rate, or the output.
-pub fn run_with<S: Real<Wide = S>>(
+pub fn run_with<S: Real, P: Real<Wide = P>>(
     robot_file: &RobotFile,
     moves: &MovesFile,
     rate_hz: f64,
@@ -453,20 +450,21 @@ pub fn run_with<S: Real<Wide = S>>(
     }
     let digits = digits(scalar);
     let robot = robot_file.robot::<S>().map_err(PlanError::Robot)?;
-    let period: S = conv(1.0 / rate_hz, "the cycle period").map_err(|_| PlanError::Rate(rate_hz))?;
+    let period: P = conv(1.0 / rate_hz, "the cycle period").map_err(|_| PlanError::Rate(rate_hz))?;
     let period_f64 = period.to_f64();
     let (speed, accel) = moves.joint_rate_limits_f64();
     let limits = JointRateLimits {
         speed: conv3(speed, "a joint speed limit")?,
         accel: conv3(accel, "a joint acceleration limit")?,
     };
-    let start = conv3::<S>(moves.start_mm, "the start position")?;
-    let list = moves.moves_f64()?.iter().map(move_in::<S>).collect::<Result<Vec<_>, _>>()?;
-    let mut stream: Stream<S, QUEUE_CAPACITY> = Stream::new(robot, period, limits, start).map_err(PlanError::Start)?;
+    let start = conv3::<S::Wide>(moves.start_mm, "the start position")?;
+    let list = moves.moves_f64()?.iter().map(move_in::<P>).collect::<Result<Vec<_>, _>>()?;
+    let mut stream: Stream<S, QUEUE_CAPACITY, P> =
+        Stream::new(robot, period, limits, start).map_err(PlanError::Start)?;
     let at_start = robot.inverse(start).map_err(|e| PlanError::Start(MotionError::before_sampling(e.into())))?;
 
     writeln!(out, "{CSV_HEADER}")?;
-    row(out, 0.0, start.map(S::to_f64), at_start.joints.map(S::to_f64), [0.0; 3], digits)?;
+    row(out, 0.0, start.map(Arith::to_f64), at_start.joints.map(S::to_f64), [0.0; 3], digits)?;
     let mut summary = Summary {
         scalar,
         rate_hz,
@@ -498,8 +496,8 @@ pub fn run_with<S: Real<Wide = S>>(
         #[allow(clippy::cast_precision_loss)] // counts far below 2^53
         let t = summary.setpoints as f64 * period_f64;
         let sp = step.setpoint;
-        let rates = sp.joint_rates.map(S::to_f64);
-        row(out, t, sp.position.map(S::to_f64), sp.joints.map(S::to_f64), rates, digits)?;
+        let rates = sp.joint_rates.map(Arith::to_f64);
+        row(out, t, sp.position.map(Arith::to_f64), sp.joints.map(S::to_f64), rates, digits)?;
         for arm in 0..3 {
             let w = rates[arm].to_degrees();
             let a = (rates[arm] - prev_rates[arm]).to_degrees() / period_f64;
@@ -526,9 +524,9 @@ pub fn run(
 ) -> Result<Summary, PlanError> {
     let moves = MovesFile::parse(moves_toml)?;
     match scalar {
-        ScalarKind::F32 => run_with::<f32>(robot_file, &moves, rate_hz, scalar, out),
-        ScalarKind::F64 => run_with::<f64>(robot_file, &moves, rate_hz, scalar, out),
-        ScalarKind::Fixed => Err(PlanError::Unsupported(scalar)),
+        ScalarKind::F32 => run_with::<f32, f32>(robot_file, &moves, rate_hz, scalar, out),
+        ScalarKind::F64 => run_with::<f64, f64>(robot_file, &moves, rate_hz, scalar, out),
+        ScalarKind::Fixed => run_with::<Fixed, f32>(robot_file, &moves, rate_hz, scalar, out),
     }
 }
 
@@ -549,8 +547,8 @@ mod tests {
     }
 
     #[test]
-    fn demo_moves_run_in_both_precisions_within_limits() {
-        for scalar in [ScalarKind::F32, ScalarKind::F64] {
+    fn demo_moves_run_in_every_number_type_within_limits() {
+        for scalar in [ScalarKind::F32, ScalarKind::F64, ScalarKind::Fixed] {
             let (s, csv) = run_demo(scalar);
             let lines: Vec<&str> = csv.lines().collect();
             assert_eq!(lines[0], CSV_HEADER);

@@ -244,8 +244,9 @@ const PLAN_HEADER: &str = "t_s,x_mm,y_mm,z_mm,theta0_deg,theta1_deg,theta2_deg,o
 /// text, and the f32 period 1/rate rounded (below 1e-7 relative).
 const PLAN_STEP_REL: f64 = 1e-6;
 /// The last row's joint angles against the last move's target (deg): the
-/// stream lands exactly on the target, so only the 9-digit printing and
-/// the f32 rounding of 20 deg in radians remain.
+/// stream lands exactly on the target, so only the printing and the
+/// rounding of 20 deg in radians remain (f32: 6e-8 relative; fixed
+/// point: half a Q7.25 LSB, 1e-6 deg).
 const PLAN_END_DEG: f64 = 1e-5;
 
 fn plan_rows(out: &Output) -> Vec<[f64; 10]> {
@@ -263,9 +264,9 @@ fn plan_rows(out: &Output) -> Vec<[f64; 10]> {
 #[test]
 fn plan_streams_the_demo_moves_at_the_given_rate_and_ends_on_the_last_target() {
     let moves = demo_moves_path();
-    for rate in [4000.0, 1000.0] {
+    for (rate, scalar) in [(4000.0, "f32"), (1000.0, "f32"), (4000.0, "fixed"), (2000.0, "f64")] {
         let rate_text = format!("{rate}");
-        let out = run(&["plan", "--moves", moves.to_str().unwrap(), "--rate-hz", &rate_text, "--scalar", "f32"], "");
+        let out = run(&["plan", "--moves", moves.to_str().unwrap(), "--rate-hz", &rate_text, "--scalar", scalar], "");
         let err = String::from_utf8_lossy(&out.stderr);
         assert!(out.status.success(), "{err}");
         assert!(err.contains("plan:") && err.contains("peak speed") && err.contains("time scaling"), "{err}");
