@@ -43,14 +43,26 @@ pub struct StreamSetpoint<S: Arith> {
 /// path, guarded kinematics, Jacobian) and never loops.
 ///
 /// # Between consecutive moves
-/// Every move starts where the previous one ends and every time law runs
-/// from rest to rest, so at the junction of two moves the platform stops:
-/// the last cycle of one move is its target at zero velocity, the next
-/// cycle is the first cycle of the next move. No cycle is inserted or
-/// lost and nothing jumps, whatever angle the two paths make. Corners
-/// that should be taken without stopping belong inside one move: the pick
-/// cycle rounds its two corners with arcs and runs one time law over the
-/// whole path.
+/// Moves are not joined: every move starts where the previous one ends
+/// and every time law runs from rest to rest, so at the junction of two
+/// moves the platform stops. Each law is stretched (by less than one
+/// cycle) to last a whole number of cycles, so the last cycle of a move
+/// is exactly its target at zero velocity, on the law's own deceleration
+/// (zero acceleration for the S-curve and the polynomial; the trapezoid's
+/// acceleration steps, as it does everywhere in that law); the next cycle
+/// is the first cycle of the next move. No cycle is inserted or lost and
+/// nothing jumps, whatever angle the two paths make; the cost is the
+/// stop. Corners that should be taken without stopping belong inside one
+/// move: the pick cycle rounds its two corners with arcs and runs one
+/// time law over the whole path. Blending consecutive moves through a
+/// corner is not implemented.
+///
+/// # Number types
+/// `S` is the type the stream computes each cycle in (`f32`, `f64` or
+/// [`crate::Fixed`]); positions, velocities and joint rates are in its
+/// [`Arith::Wide`] type. `P` is the float type moves are given and
+/// planned in (`S` by default; `f32` for a fixed-point stream). See the
+/// `motion` module documentation.
 #[derive(Clone, Debug)]
 pub struct Stream<S: Arith, const N: usize, P = S> {
     robot: Robot<S>,
