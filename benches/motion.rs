@@ -1,10 +1,11 @@
-//! Per-cycle cost of the setpoint stream in f32: time law, path, guarded
-//! inverse kinematics and Jacobian joint rates, on the demo robot running
-//! the 25 / 305 / 25 mm pick cycle (common practice) back and forth.
+//! Per-cycle cost of the setpoint stream in f32 and in fixed point: time
+//! law, path, guarded inverse kinematics and Jacobian joint rates, on the
+//! demo robot running the 25 / 305 / 25 mm pick cycle (common practice)
+//! back and forth.
 
 use criterion::{Criterion, criterion_group, criterion_main};
 use deltakin::motion::{Bounds, JointRateLimits, Law, Move, PlannedMove, Stream};
-use deltakin::{Geometry, Limits, Robot};
+use deltakin::{Fixed, FixedWide, Geometry, Limits, Robot};
 use std::hint::black_box;
 
 fn demo_robot() -> Robot<f32> {
@@ -51,6 +52,39 @@ fn setpoints(c: &mut Criterion) {
     });
 }
 
+/// The same pick cycle streamed in fixed point (planned in f32).
+fn fixed_setpoints(c: &mut Criterion) {
+    let w = |v: f32| FixedWide::from_f32(v).expect("in range");
+    let geometry =
+        Geometry { base_radius: w(160.0), platform_radius: w(40.0), upper_arm: w(280.0), lower_arm: w(720.0) };
+    let f = |v: f32| Fixed::from_f32(v).expect("in range");
+    let limits = Limits::uniform(f(-35f32.to_radians()), f(85f32.to_radians()), f(40f32.to_radians()), f(0.1), f(0.1));
+    let robot = Robot::new(geometry, limits).expect("demo robot");
+    let rate_limits = JointRateLimits { speed: [720f32.to_radians(); 3], accel: [15_000f32.to_radians(); 3] };
+    let (a, b) = ([-152.5f32, 60.0, -760.0], [152.5f32, 60.0, -760.0]);
+    let bounds = Bounds { speed: 2500.0, accel: 40_000.0, jerk: 2.0e6 };
+    let pick = |to| Move::Pick { to, lift: 25.0, blend_radius: 10.0, law: Law::SCurve, bounds };
+    let mut stream: Stream<Fixed, 4, f32> = Stream::new(robot, 2.5e-4, rate_limits, a.map(w)).expect("stream");
+    let there = stream.plan(&pick(b)).expect("a to b");
+    stream.push_planned(there).expect("queued");
+    let back = stream.plan(&pick(a)).expect("b to a");
+    stream.push_planned(back).expect("queued");
+    let mut legs = 0u32;
+    c.bench_function("stream setpoint (pick cycle, s-curve, fixed)", |bench| {
+        bench.iter(|| {
+            let step = stream.next_setpoint().expect("validated");
+            if let Some(s) = step
+                && s.setpoint.end_of_move
+            {
+                legs += 1;
+                let next = if legs % 2 == 1 { there } else { back };
+                stream.push_planned(next).expect("queued again");
+            }
+            black_box(step)
+        });
+    });
+}
+
 /// The guarded inverse kinematics alone, for comparison: the share of a
 /// setpoint that is not the motion layer's.
 fn guarded_inverse(c: &mut Criterion) {
@@ -64,5 +98,5 @@ fn guarded_inverse(c: &mut Criterion) {
     });
 }
 
-criterion_group!(benches, setpoints, guarded_inverse);
+criterion_group!(benches, setpoints, fixed_setpoints, guarded_inverse);
 criterion_main!(benches);

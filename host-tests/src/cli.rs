@@ -3,8 +3,9 @@
 //!
 //! Exit status: 0 success; 1 `report` found an enforced gate broken (an
 //! accuracy bound, a target budget, ...); 2 a usage or configuration
-//! problem (bad arguments, unreadable or invalid robot, gate or targets
-//! file, missing or wrong CSV header, I/O failure).
+//! problem (bad arguments, unreadable or invalid robot, moves, gate or
+//! targets file, missing or wrong CSV header, a move `plan` must refuse,
+//! I/O failure).
 
 use std::io::{BufWriter, Read, Write};
 use std::path::{Path, PathBuf};
@@ -16,6 +17,7 @@ use deltakin::{Arith, Error, Fixed, FixedWide, Real, Robot, Solution};
 use crate::config::{ConfigError, RobotFile};
 use crate::crosscheck;
 use crate::gates::{self, GateConfig, TargetsFile};
+use crate::plan;
 use crate::plots;
 use crate::report::{self, Report};
 use crate::sweep::Density;
@@ -35,7 +37,7 @@ pub const JOINT_HEADER: [&str; 3] = ["theta0_deg", "theta1_deg", "theta2_deg"];
 pub const BAD_ROW: &str = "bad_row";
 
 /// Kinematics of a rotary delta robot: batch inverse and forward
-/// kinematics over CSV, and an accuracy report.
+/// kinematics over CSV, an accuracy report, and planned setpoint streams.
 ///
 /// Conventions (frames, units, signs, branches): base frame with z up and
 /// the platform below the base (z < 0); arm i at azimuth 120 deg * i; a
@@ -47,7 +49,8 @@ pub const BAD_ROW: &str = "bad_row";
     version,
     propagate_version = true,
     after_help = "Exit status: 0 success; 1 `report` found an enforced gate broken; \
-                  2 usage or configuration problem (arguments, robot file, CSV header, I/O)."
+                  2 usage or configuration problem (arguments, robot, moves, gate or targets file, \
+                  CSV header, a refused move, I/O)."
 )]
 pub struct Cli {
     /// What to do.
@@ -96,6 +99,22 @@ pub enum Command {
     /// enforced gate fails (each one is named), 2 on a usage, robot-file,
     /// gate-file or targets-file problem.
     Report(ReportArgs),
+    /// Plan a moves file and stream it: one CSV row per control cycle on
+    /// stdout, a summary on stderr.
+    ///
+    /// Output header:
+    /// t_s,x_mm,y_mm,z_mm,theta0_deg,theta1_deg,theta2_deg,omega0_deg_s,omega1_deg_s,omega2_deg_s.
+    /// The first row is the start pose at t = 0, at rest; then one row
+    /// every 1/rate seconds until the last move ends. Every move is
+    /// checked over its whole duration before it is queued (reachability,
+    /// joint ranges, passive-joint cones, singularity margins, joint
+    /// speeds and accelerations) and slowed down when a joint limit needs
+    /// it. A move that no slowing fixes stops the command with exit status
+    /// 2 and a message naming the move, the time within it and the limit.
+    /// The moves file format is documented in the README and in
+    /// examples/demo_moves.toml.
+    #[command(after_help = "Example:\n  deltakin plan --moves examples/demo_moves.toml --rate-hz 4000 > setpoints.csv")]
+    Plan(PlanArgs),
 }
 
 /// Options of `ik` and `fk`.
@@ -151,6 +170,27 @@ pub struct ReportArgs {
     #[arg(long)]
     pub no_timing: bool,
 }
+
+/// Options of `plan`.
+#[derive(Debug, Args)]
+pub struct PlanArgs {
+    /// Robot file (TOML); the built-in demo robot when omitted.
+    #[arg(long, value_name = "FILE")]
+    pub robot: Option<PathBuf>,
+    /// Moves file (TOML, see examples/demo_moves.toml).
+    #[arg(long, value_name = "FILE")]
+    pub moves: PathBuf,
+    /// Control rate (Hz): one setpoint every 1/N seconds.
+    #[arg(long, value_name = "N", default_value_t = DEFAULT_RATE_HZ)]
+    pub rate_hz: f64,
+    /// Number type the stream computes in (planning runs in f32 for
+    /// `fixed`, as on a target without a double-precision unit).
+    #[arg(long, value_enum, default_value_t = ScalarKind::F32)]
+    pub scalar: ScalarKind,
+}
+
+/// Default of `plan --rate-hz` (common practice for servo loops: 1-4 kHz).
+pub const DEFAULT_RATE_HZ: f64 = 4000.0;
 
 /// Default of `report --ik-grid`.
 pub const DEFAULT_IK_GRID: u16 = 32;
@@ -411,6 +451,18 @@ fn volume_grid(ik: Density) -> VolumeGrid {
     }
 }
 
+fn run_plan(args: &PlanArgs) -> Result<ExitCode, Failure> {
+    let robot = load_robot(args.robot.as_deref())?;
+    let text = std::fs::read_to_string(&args.moves)
+        .map_err(|e| Failure(format!("cannot read moves file {}: {e}", args.moves.display())))?;
+    let mut stdout = BufWriter::new(std::io::stdout().lock());
+    let summary = plan::run(&robot, &text, args.rate_hz, args.scalar, &mut stdout)
+        .map_err(|e| Failure(format!("{}: {e}", args.moves.display())))?;
+    stdout.flush().map_err(|e| Failure(format!("cannot write stdout: {e}")))?;
+    eprintln!("{summary}");
+    Ok(ExitCode::SUCCESS)
+}
+
 fn run_report(args: &ReportArgs) -> Result<ExitCode, Failure> {
     let robot = load_robot(args.robot.as_deref())?;
     let mut layers = Vec::new();
@@ -468,6 +520,7 @@ pub fn run(cli: &Cli) -> ExitCode {
         Command::Ik(args) => run_batch(args, Direction::Inverse),
         Command::Fk(args) => run_batch(args, Direction::Forward),
         Command::Report(args) => run_report(args),
+        Command::Plan(args) => run_plan(args),
     };
     result.unwrap_or_else(|Failure(message)| {
         eprintln!("deltakin: {message}");

@@ -58,42 +58,37 @@
 use std::fmt;
 use std::io::Write;
 
-use deltakin::Real;
 use deltakin::motion::{Bounds, JointRateLimits, Law, MotionError, Move, Stream};
+use deltakin::{Arith, Fixed, Real};
 use serde::Deserialize;
 
+use crate::cli::ScalarKind;
 use crate::config::{ConfigError, PerArm, RobotFile};
 
 /// Moves the stream's queue holds (the one running included).
 pub const QUEUE_CAPACITY: usize = 8;
 
-/// The number type the stream runs in.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-#[non_exhaustive]
-pub enum ScalarKind {
-    /// Single precision, the firmware path.
-    F32,
-    /// Double precision.
-    F64,
+/// Significant digits that round-trip a value of this number type in the
+/// CSV (9 for `f32`, 17 for `f64`). Fixed point: 12, which resolves every
+/// value the stream prints below its least significant bit (positions in
+/// Q18.14 mm below 10 m to 1e-8 mm against an LSB of 6.1e-5 mm; angles in
+/// Q7.25 rad, printed in degrees, to 1e-9 deg against 1.7e-6 deg).
+#[must_use]
+pub const fn digits(scalar: ScalarKind) -> usize {
+    match scalar {
+        ScalarKind::F32 => 9,
+        ScalarKind::F64 => 17,
+        ScalarKind::Fixed => 12,
+    }
 }
 
-impl ScalarKind {
-    /// Significant digits that round-trip this type.
-    #[must_use]
-    pub const fn digits(self) -> usize {
-        match self {
-            ScalarKind::F32 => 9,
-            ScalarKind::F64 => 17,
-        }
-    }
-
-    /// The name used on the command line.
-    #[must_use]
-    pub const fn name(self) -> &'static str {
-        match self {
-            ScalarKind::F32 => "f32",
-            ScalarKind::F64 => "f64",
-        }
+/// The name of a number type on the command line.
+#[must_use]
+pub const fn scalar_name(scalar: ScalarKind) -> &'static str {
+    match scalar {
+        ScalarKind::F32 => "f32",
+        ScalarKind::F64 => "f64",
+        ScalarKind::Fixed => "fixed",
     }
 }
 
@@ -292,7 +287,7 @@ impl fmt::Display for Summary {
             self.moves,
             self.setpoints,
             self.rate_hz,
-            self.scalar.name(),
+            scalar_name(self.scalar),
             self.duration_s
         )?;
         for arm in 0..3 {
@@ -383,11 +378,11 @@ impl MovesFile {
     }
 }
 
-fn conv<S: Real>(v: f64, what: &'static str) -> Result<S, PlanError> {
+fn conv<S: Arith>(v: f64, what: &'static str) -> Result<S, PlanError> {
     S::from_f64(v).ok_or(PlanError::Unrepresentable(what))
 }
 
-fn conv3<S: Real>(v: [f64; 3], what: &'static str) -> Result<[S; 3], PlanError> {
+fn conv3<S: Arith>(v: [f64; 3], what: &'static str) -> Result<[S; 3], PlanError> {
     Ok([conv(v[0], what)?, conv(v[1], what)?, conv(v[2], what)?])
 }
 
@@ -435,13 +430,15 @@ fn row(out: &mut dyn Write, t: f64, p: [f64; 3], q: [f64; 3], w: [f64; 3], digit
 pub const CSV_HEADER: &str =
     "t_s,x_mm,y_mm,z_mm,theta0_deg,theta1_deg,theta2_deg,omega0_deg_s,omega1_deg_s,omega2_deg_s";
 
-/// Runs `moves` on `robot_file` at `rate_hz` in number type `S`, writing
-/// CSV with `digits` significant digits to `out`.
+/// Runs `moves` on `robot_file` at `rate_hz`, streaming in number type
+/// `S` with the moves planned in the float type `P` (`P = S` for floats,
+/// `f32` for fixed point, as on a target), writing CSV with the digits of
+/// `scalar` to `out`.
 ///
 /// # Errors
 /// See [`PlanError`]: a move refused (with its index and the first
 /// offending time within it), the robot, the rate, or the output.
-pub fn run_with<S: Real<Wide = S>>(
+pub fn run_with<S: Real, P: Real<Wide = P>>(
     robot_file: &RobotFile,
     moves: &MovesFile,
     rate_hz: f64,
@@ -451,22 +448,23 @@ pub fn run_with<S: Real<Wide = S>>(
     if !(rate_hz.is_finite() && rate_hz > 0.0) {
         return Err(PlanError::Rate(rate_hz));
     }
-    let digits = scalar.digits();
+    let digits = digits(scalar);
     let robot = robot_file.robot::<S>().map_err(PlanError::Robot)?;
-    let period: S = conv(1.0 / rate_hz, "the cycle period").map_err(|_| PlanError::Rate(rate_hz))?;
+    let period: P = conv(1.0 / rate_hz, "the cycle period").map_err(|_| PlanError::Rate(rate_hz))?;
     let period_f64 = period.to_f64();
     let (speed, accel) = moves.joint_rate_limits_f64();
     let limits = JointRateLimits {
         speed: conv3(speed, "a joint speed limit")?,
         accel: conv3(accel, "a joint acceleration limit")?,
     };
-    let start = conv3::<S>(moves.start_mm, "the start position")?;
-    let list = moves.moves_f64()?.iter().map(move_in::<S>).collect::<Result<Vec<_>, _>>()?;
-    let mut stream: Stream<S, QUEUE_CAPACITY> = Stream::new(robot, period, limits, start).map_err(PlanError::Start)?;
+    let start = conv3::<S::Wide>(moves.start_mm, "the start position")?;
+    let list = moves.moves_f64()?.iter().map(move_in::<P>).collect::<Result<Vec<_>, _>>()?;
+    let mut stream: Stream<S, QUEUE_CAPACITY, P> =
+        Stream::new(robot, period, limits, start).map_err(PlanError::Start)?;
     let at_start = robot.inverse(start).map_err(|e| PlanError::Start(MotionError::before_sampling(e.into())))?;
 
     writeln!(out, "{CSV_HEADER}")?;
-    row(out, 0.0, start.map(S::to_f64), at_start.joints.map(S::to_f64), [0.0; 3], digits)?;
+    row(out, 0.0, start.map(Arith::to_f64), at_start.joints.map(S::to_f64), [0.0; 3], digits)?;
     let mut summary = Summary {
         scalar,
         rate_hz,
@@ -498,8 +496,8 @@ pub fn run_with<S: Real<Wide = S>>(
         #[allow(clippy::cast_precision_loss)] // counts far below 2^53
         let t = summary.setpoints as f64 * period_f64;
         let sp = step.setpoint;
-        let rates = sp.joint_rates.map(S::to_f64);
-        row(out, t, sp.position.map(S::to_f64), sp.joints.map(S::to_f64), rates, digits)?;
+        let rates = sp.joint_rates.map(Arith::to_f64);
+        row(out, t, sp.position.map(Arith::to_f64), sp.joints.map(S::to_f64), rates, digits)?;
         for arm in 0..3 {
             let w = rates[arm].to_degrees();
             let a = (rates[arm] - prev_rates[arm]).to_degrees() / period_f64;
@@ -526,8 +524,9 @@ pub fn run(
 ) -> Result<Summary, PlanError> {
     let moves = MovesFile::parse(moves_toml)?;
     match scalar {
-        ScalarKind::F32 => run_with::<f32>(robot_file, &moves, rate_hz, scalar, out),
-        ScalarKind::F64 => run_with::<f64>(robot_file, &moves, rate_hz, scalar, out),
+        ScalarKind::F32 => run_with::<f32, f32>(robot_file, &moves, rate_hz, scalar, out),
+        ScalarKind::F64 => run_with::<f64, f64>(robot_file, &moves, rate_hz, scalar, out),
+        ScalarKind::Fixed => run_with::<Fixed, f32>(robot_file, &moves, rate_hz, scalar, out),
     }
 }
 
@@ -548,8 +547,8 @@ mod tests {
     }
 
     #[test]
-    fn demo_moves_run_in_both_precisions_within_limits() {
-        for scalar in [ScalarKind::F32, ScalarKind::F64] {
+    fn demo_moves_run_in_every_number_type_within_limits() {
+        for scalar in [ScalarKind::F32, ScalarKind::F64, ScalarKind::Fixed] {
             let (s, csv) = run_demo(scalar);
             let lines: Vec<&str> = csv.lines().collect();
             assert_eq!(lines[0], CSV_HEADER);
@@ -563,7 +562,7 @@ mod tests {
                 let fields: Vec<&str> = line.split(',').collect();
                 assert_eq!(fields.len(), 10);
                 let mantissa = fields[1].split('e').next().unwrap().trim_start_matches('-');
-                assert_eq!(mantissa.len(), scalar.digits() + 1, "{line}");
+                assert_eq!(mantissa.len(), digits(scalar) + 1, "{line}");
             }
             assert!(!format!("{s}").is_empty());
         }

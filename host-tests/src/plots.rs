@@ -447,7 +447,7 @@ type Profile = (Vec<(f64, [f64; 3], [f64; 3])>, [f64; 3]);
 
 fn pick_profile(file: &RobotFile) -> Result<Profile, String> {
     let mut csv = Vec::new();
-    let summary = plan::run(file, plan::DEMO_MOVES_TOML, PICK_RATE_HZ, plan::ScalarKind::F64, &mut csv)
+    let summary = plan::run(file, plan::DEMO_MOVES_TOML, PICK_RATE_HZ, crate::cli::ScalarKind::F64, &mut csv)
         .map_err(|e| e.to_string())?;
     let text = String::from_utf8(csv).map_err(|e| e.to_string())?;
     let mut rows = Vec::new();

@@ -397,3 +397,85 @@ fn plots_are_svg_files_with_axis_labels() {
         }
     }
 }
+
+/// The demo moves file, as a user passes it.
+fn demo_moves_path() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../examples/demo_moves.toml")
+}
+
+/// Header of `plan`'s CSV (documented in `deltakin plan --help`).
+const PLAN_HEADER: &str = "t_s,x_mm,y_mm,z_mm,theta0_deg,theta1_deg,theta2_deg,omega0_deg_s,omega1_deg_s,omega2_deg_s";
+/// Relative slack on the printed time step: 9 significant digits of f32
+/// text, and the f32 period 1/rate rounded (below 1e-7 relative).
+const PLAN_STEP_REL: f64 = 1e-6;
+/// The last row's joint angles against the last move's target (deg): the
+/// stream lands exactly on the target, so only the printing and the
+/// rounding of 20 deg in radians remain (f32: 6e-8 relative; fixed
+/// point: half a Q7.25 LSB, 1e-6 deg).
+const PLAN_END_DEG: f64 = 1e-5;
+
+fn plan_rows(out: &Output) -> Vec<[f64; 10]> {
+    let lines = stdout_lines(out);
+    assert_eq!(lines[0], PLAN_HEADER);
+    lines[1..]
+        .iter()
+        .map(|l| {
+            let v: Vec<f64> = l.split(',').map(|f| f.parse().expect("number")).collect();
+            v.try_into().expect("ten fields")
+        })
+        .collect()
+}
+
+#[test]
+fn plan_streams_the_demo_moves_at_the_given_rate_and_ends_on_the_last_target() {
+    let moves = demo_moves_path();
+    for (rate, scalar) in [(4000.0, "f32"), (1000.0, "f32"), (4000.0, "fixed"), (2000.0, "f64")] {
+        let rate_text = format!("{rate}");
+        let out = run(&["plan", "--moves", moves.to_str().unwrap(), "--rate-hz", &rate_text, "--scalar", scalar], "");
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert!(out.status.success(), "{err}");
+        assert!(err.contains("plan:") && err.contains("peak speed") && err.contains("time scaling"), "{err}");
+        let rows = plan_rows(&out);
+        assert!(rows.len() > 100);
+        assert_eq!(rows[0][0], 0.0);
+        for (i, w) in rows.windows(2).enumerate() {
+            let step = w[1][0] - w[0][0];
+            assert!((step * rate - 1.0).abs() <= PLAN_STEP_REL * (i as f64 + 2.0), "row {i}: step {step}");
+        }
+        // The last move is a joint move to 20 deg on every arm, ending at rest.
+        let last = rows.last().unwrap();
+        for arm in 0..3 {
+            assert!((last[4 + arm] - 20.0).abs() <= PLAN_END_DEG, "{last:?}");
+            assert_eq!(last[7 + arm], 0.0, "{last:?}");
+        }
+    }
+    // Default rate: 4 kHz.
+    let out = run(&["plan", "--moves", moves.to_str().unwrap()], "");
+    let rows = plan_rows(&out);
+    assert!((rows[1][0] - 2.5e-4).abs() <= PLAN_STEP_REL * 2.5e-4);
+}
+
+#[test]
+fn plan_failures_exit_with_one_message() {
+    let demo = std::fs::read_to_string(demo_moves_path()).unwrap();
+    let bad_toml = temp_file("bad_moves.toml", &demo.replace("lift_mm", "hop_mm"));
+    let unreachable = temp_file(
+        "unreachable_moves.toml",
+        &format!("{demo}\n[[move]]\nkind = \"line\"\nto_mm = [0.0, 0.0, -1300.0]\nspeed_mm_s = 500.0\n"),
+    );
+    let missing = PathBuf::from(env!("CARGO_TARGET_TMPDIR")).join("no_such_moves.toml");
+    let demo_path = demo_moves_path();
+    let cases: [(Vec<&str>, &str); 4] = [
+        (vec!["plan", "--moves", bad_toml.to_str().unwrap()], "hop_mm"),
+        (vec!["plan", "--moves", unreachable.to_str().unwrap()], "move 9 refused"),
+        (vec!["plan", "--moves", missing.to_str().unwrap()], "no_such_moves.toml"),
+        (vec!["plan", "--moves", demo_path.to_str().unwrap(), "--rate-hz=0"], "rate"),
+    ];
+    for (args, mention) in cases {
+        let out = run(&args, "");
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert_eq!(out.status.code(), Some(EXIT_USAGE), "{args:?}: {err}");
+        assert!(err.contains(mention), "{args:?}: {err}");
+        assert!(err.starts_with("deltakin: ") && err.matches("deltakin: ").count() == 1, "{err}");
+    }
+}

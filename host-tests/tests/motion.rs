@@ -1,13 +1,14 @@
-//! Property tests of the motion layer on the demo robot, in f32 (the
-//! firmware path): random moves keep every guard and joint limit on every
-//! emitted setpoint; moves through forbidden regions are refused before
-//! anything is emitted; the queue keeps its moves in order; a long stream
-//! of a closed pick cycle does not drift.
+//! Property tests of the motion layer on the demo robot, streamed in f32
+//! and in fixed point (both firmware paths; planning in f32): random moves
+//! keep every guard and joint limit on every emitted setpoint; moves
+//! through forbidden regions are refused before anything is emitted; the
+//! queue keeps its moves in order; a long stream of a closed pick cycle
+//! does not drift.
 
 use std::cell::Cell;
 
-use deltakin::Robot;
 use deltakin::motion::{Bounds, JointRateLimits, Law, MotionFault, Move, Stream};
+use deltakin::{Arith, Fixed, Real, Robot};
 use deltakin_harness::config::RobotFile;
 use proptest::prelude::*;
 use proptest::test_runner::{Config, RngAlgorithm, TestRng, TestRunner};
@@ -25,6 +26,15 @@ const PERIOD: f32 = 2.5e-4;
 
 fn robot() -> Robot<f32> {
     RobotFile::demo().robot::<f32>().expect("demo robot")
+}
+
+/// An f32 position (mm) in the stream's API type.
+fn wide<S: Real>(p: [f32; 3]) -> [S::Wide; 3] {
+    p.map(|v| S::Wide::from_f64(f64::from(v)).expect("in range"))
+}
+
+fn to_f64<A: Arith>(v: [A; 3]) -> [f64; 3] {
+    v.map(A::to_f64)
 }
 
 fn runner(cases: u32) -> TestRunner {
@@ -79,9 +89,16 @@ fn move_case() -> impl Strategy<Value = MoveCase> {
         })
 }
 
-#[test]
-fn random_moves_keep_every_guard_and_joint_limit_on_every_setpoint() {
-    let robot = robot();
+/// Relative slack for the fixed-point stream: its joint rates are Q18.14
+/// (LSB 6.1e-5 rad/s), so a rate difference times the 4 kHz rate carries
+/// up to 0.25 rad/s^2 of rounding against limits of 35 rad/s^2 and more;
+/// the validation compares the same rounded numbers, so this only covers
+/// the f64 recomputation here.
+const LIMIT_RECHECK_REL_FIXED: f64 = 1e-5;
+
+fn random_moves_keep_every_guard_and_joint_limit<S: Real>(recheck_rel: f64) {
+    let robot = RobotFile::demo().robot::<S>().expect("demo robot");
+    let name = std::any::type_name::<S>();
     let worst_speed = Cell::new(0.0f64);
     let worst_accel = Cell::new(0.0f64);
     let scaled = Cell::new(0u32);
@@ -91,7 +108,7 @@ fn random_moves_keep_every_guard_and_joint_limit_on_every_setpoint() {
             speed: [c.joint_speed_deg_s.to_radians(); 3],
             accel: [c.joint_accel_deg_s2.to_radians(); 3],
         };
-        let mut stream: Stream<f32, 2> = Stream::new(robot, PERIOD, limits, c.start).expect("start inside");
+        let mut stream: Stream<S, 2, f32> = Stream::new(robot, PERIOD, limits, wide::<S>(c.start)).expect("start");
         let bounds = Bounds { speed: c.bounds.0, accel: c.bounds.1, jerk: c.bounds.2 };
         let mv = match c.pick {
             None => Move::Line { to: c.to, law: law(c.law), bounds },
@@ -124,31 +141,41 @@ fn random_moves_keep_every_guard_and_joint_limit_on_every_setpoint() {
             prop_assert_eq!(again.map(|s| s.joints).ok(), Some(sp.joints));
             #[allow(clippy::needless_range_loop)] // four parallel arrays
             for arm in 0..3 {
-                let w = f64::from(sp.joint_rates[arm]);
+                let w = sp.joint_rates[arm].to_f64();
                 let speed = w.abs() / f64::from(limits.speed[arm]);
                 let accel = ((w - prev[arm]) / f64::from(PERIOD)).abs() / f64::from(limits.accel[arm]);
-                prop_assert!(speed <= 1.0 + LIMIT_RECHECK_REL, "speed {speed} at cycle {}", sp.cycle);
-                prop_assert!(accel <= 1.0 + LIMIT_RECHECK_REL, "accel {accel} at cycle {}", sp.cycle);
+                prop_assert!(speed <= 1.0 + recheck_rel, "speed {speed} at cycle {}", sp.cycle);
+                prop_assert!(accel <= 1.0 + recheck_rel, "accel {accel} at cycle {}", sp.cycle);
                 worst_speed.set(worst_speed.get().max(speed));
                 worst_accel.set(worst_accel.get().max(accel));
             }
-            prev = sp.joint_rates.map(f64::from);
+            prev = to_f64(sp.joint_rates);
         }
         prop_assert_eq!(count, acc.cycles);
         // The move ends on its target, at rest.
-        prop_assert_eq!(stream.tail(), c.to);
+        prop_assert_eq!(to_f64(stream.tail()), to_f64(wide::<S>(c.to)));
         Ok(())
     });
     result.unwrap();
     let (accepted, scaled) = (accepted.get(), scaled.get());
     eprintln!(
-        "{accepted} of {MOVE_CASES} moves accepted, {scaled} time scaled; worst joint speed use {:.4} %, worst joint \
+        "{name}: {accepted} of {MOVE_CASES} moves accepted, {scaled} time scaled; worst joint speed use {:.4} %, worst joint \
          acceleration use {:.4} % of the limits",
         100.0 * worst_speed.get(),
         100.0 * worst_accel.get()
     );
     assert!(accepted >= MOVE_CASES / 2, "too few reachable cases: {accepted}");
     assert!(scaled > 0, "no case exercised time scaling");
+}
+
+#[test]
+fn random_moves_keep_every_guard_and_joint_limit_on_every_setpoint_f32() {
+    random_moves_keep_every_guard_and_joint_limit::<f32>(LIMIT_RECHECK_REL);
+}
+
+#[test]
+fn random_moves_keep_every_guard_and_joint_limit_on_every_setpoint_fixed() {
+    random_moves_keep_every_guard_and_joint_limit::<Fixed>(LIMIT_RECHECK_REL_FIXED);
 }
 
 #[test]
@@ -254,27 +281,32 @@ const DRIFT_SETPOINTS: u64 = 1_000_000;
 /// Largest allowed distance between start and end (mm): 1 micrometre.
 const DRIFT_MAX_MM: f64 = 1e-3;
 
-#[test]
-fn a_million_setpoints_of_a_closed_pick_cycle_end_where_they_started() {
-    let robot = robot();
+/// Streams a closed pick cycle for at least [`DRIFT_SETPOINTS`] cycles in
+/// `S` and returns (end distance, worst return distance) from the start (mm).
+fn closed_pick_cycle_drift<S: Real>() -> (f64, f64) {
+    let robot = RobotFile::demo().robot::<S>().expect("demo robot");
+    let name = std::any::type_name::<S>();
     let limits = JointRateLimits { speed: [(720.0f32).to_radians(); 3], accel: [(15_000.0f32).to_radians(); 3] };
     let a = [-152.5f32, 60.0, -760.0];
     let b = [152.5f32, 60.0, -760.0];
     let bounds = Bounds { speed: 2500.0, accel: 40_000.0, jerk: 2.0e6 };
     let pick = |to| Move::Pick { to, lift: 25.0, blend_radius: 10.0, law: Law::SCurve, bounds };
-    let mut stream: Stream<f32, 2> = Stream::new(robot, PERIOD, limits, a).expect("start");
+    let (a_f32, b_f32) = (a, b);
+    let a = wide::<S>(a);
+    let mut stream: Stream<S, 2, f32> = Stream::new(robot, PERIOD, limits, a).expect("start");
     // Plan each leg once (from where it starts) and queue copies: the
     // stream computes every setpoint from the time within its move, so
     // repeating the legs cannot accumulate anything.
-    let there = stream.plan(&pick(b)).expect("a to b");
+    let there = stream.plan(&pick(b_f32)).expect("a to b");
     stream.push_planned(there).expect("queued");
-    let back = stream.plan(&pick(a)).expect("b to a");
+    let back = stream.plan(&pick(a_f32)).expect("b to a");
     let _ = stream.next_setpoint();
     stream.push_planned(back).expect("queued");
     let mut emitted = 1u64;
     let mut leg = 0u64;
     let mut worst_return = 0.0f64;
-    let mut last = [0.0f32; 3];
+    let mut last = a;
+    let mut stopping = false;
     while emitted < DRIFT_SETPOINTS || !stream.is_empty() {
         let Some(step) = stream.next_setpoint().expect("streams") else { break };
         emitted += 1;
@@ -285,19 +317,31 @@ fn a_million_setpoints_of_a_closed_pick_cycle_end_where_they_started() {
                 let d = dist(last, a);
                 worst_return = worst_return.max(d);
             }
-            if emitted < DRIFT_SETPOINTS {
+            // The queue already holds leg `leg + 1`; past the count, stop
+            // pushing once that one closes the cycle (an even leg).
+            stopping |= emitted >= DRIFT_SETPOINTS && leg % 2 == 1;
+            if !stopping {
                 let next = if leg % 2 == 1 { there } else { back };
                 stream.push_planned(next).expect("queued again");
             }
         }
     }
     let drift = dist(last, a);
-    eprintln!("{emitted} setpoints, {leg} legs: end {drift:e} mm from the start, worst return {worst_return:e} mm");
+    eprintln!(
+        "{name}: {emitted} setpoints, {leg} legs: end {drift:e} mm from the start, worst return {worst_return:e} mm"
+    );
     assert!(emitted >= DRIFT_SETPOINTS);
     assert_eq!(leg % 2, 0, "the stream must finish on a closed cycle");
-    assert!(drift <= DRIFT_MAX_MM && worst_return <= DRIFT_MAX_MM);
+    (drift, worst_return)
 }
 
-fn dist(p: [f32; 3], q: [f32; 3]) -> f64 {
-    p.iter().zip(q.iter()).map(|(a, b)| (f64::from(*a) - f64::from(*b)).powi(2)).sum::<f64>().sqrt()
+#[test]
+fn a_million_setpoints_of_a_closed_pick_cycle_end_where_they_started() {
+    for (drift, worst_return) in [closed_pick_cycle_drift::<f32>(), closed_pick_cycle_drift::<Fixed>()] {
+        assert!(drift <= DRIFT_MAX_MM && worst_return <= DRIFT_MAX_MM);
+    }
+}
+
+fn dist<A: Arith>(p: [A; 3], q: [A; 3]) -> f64 {
+    p.iter().zip(q.iter()).map(|(a, b)| (a.to_f64() - b.to_f64()).powi(2)).sum::<f64>().sqrt()
 }

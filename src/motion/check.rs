@@ -31,13 +31,14 @@
 //! 4 kHz, 1,200 setpoints.
 
 use super::error::{MotionError, MotionFault, MoveFault};
-use super::law::{constant, div};
+use super::law::{constant, convert, div};
 use super::moves::{Move, PlannedMove, Setpoint, Shaped, shape};
 use crate::robot::Robot;
-use crate::scalar::Real;
+use crate::scalar::{Arith, Real};
 
 /// Longest move accepted, in cycles (2^20: about 262 s at 4 kHz). Keeps
-/// the validation bounded and the cycle count exact in `f32` (below 2^24).
+/// the validation bounded and the sub-cycle tick counts of the stream
+/// below 2^28.
 pub const MAX_MOVE_CYCLES: u32 = 1 << 20;
 
 /// Largest time stretch the validation applies before rejecting a move.
@@ -59,35 +60,35 @@ pub struct JointRateLimits<S> {
     pub accel: [S; 3],
 }
 
-/// The limits and the period, prepared for the validation.
+/// The limits and the period, prepared for the validation (planning type).
 #[derive(Clone, Copy, Debug, PartialEq)]
-pub(crate) struct Checker<S> {
-    pub(crate) period: S,
-    rate: S,
-    inv_speed: [S; 3],
-    inv_accel: [S; 3],
+pub(crate) struct Checker<P> {
+    pub(crate) period: P,
+    rate: P,
+    inv_speed: [P; 3],
+    inv_accel: [P; 3],
 }
 
-fn positive<S: Real>(v: S) -> Result<S, MotionError> {
+fn positive<P: Real>(v: P) -> Result<P, MotionError> {
     if !v.is_finite() {
         return Err(MotionError::invalid(MoveFault::NonFinite));
     }
-    if !(v > S::ZERO) {
+    if !(v > P::ZERO) {
         return Err(MotionError::invalid(MoveFault::NotPositive));
     }
     Ok(v)
 }
 
-fn inverse3<S: Real>(v: [S; 3]) -> Result<[S; 3], MotionError> {
-    Ok([div(S::ONE, positive(v[0])?)?, div(S::ONE, positive(v[1])?)?, div(S::ONE, positive(v[2])?)?])
+fn inverse3<P: Real>(v: [P; 3]) -> Result<[P; 3], MotionError> {
+    Ok([div(P::ONE, positive(v[0])?)?, div(P::ONE, positive(v[1])?)?, div(P::ONE, positive(v[2])?)?])
 }
 
-impl<S: Real> Checker<S> {
-    pub(crate) fn new(period: S, limits: &JointRateLimits<S>) -> Result<Self, MotionError> {
+impl<P: Real> Checker<P> {
+    pub(crate) fn new(period: P, limits: &JointRateLimits<P>) -> Result<Self, MotionError> {
         let period = positive(period)?;
         Ok(Self {
             period,
-            rate: div(S::ONE, period)?,
+            rate: div(P::ONE, period)?,
             inv_speed: inverse3(limits.speed)?,
             inv_accel: inverse3(limits.accel)?,
         })
@@ -95,26 +96,26 @@ impl<S: Real> Checker<S> {
 }
 
 /// What one pass over a move found.
-struct Scan<S> {
-    speed: S,
-    accel: S,
+struct Scan<S: Arith, P> {
+    speed: P,
+    accel: P,
     first_over: Option<MotionError>,
     last: Option<Setpoint<S>>,
 }
 
-/// Samples every cycle of `mv`.
-fn scan<S: Real<Wide = S>>(
+/// Samples every cycle of `mv`. The joint rates come out of the stream's
+/// own arithmetic (`S`); the limits are compared in the planning type.
+fn scan<S: Real, P: Real<Wide = P>>(
     robot: &Robot<S>,
-    checker: &Checker<S>,
-    mv: &PlannedMove<S>,
-) -> Result<Scan<S>, MotionError> {
-    let mut out = Scan { speed: S::ZERO, accel: S::ZERO, first_over: None, last: None };
-    let mut prev = [S::ZERO; 3];
-    let mut k = S::ZERO;
+    checker: &Checker<P>,
+    mv: &PlannedMove<S, P>,
+) -> Result<Scan<S, P>, MotionError> {
+    let mut out = Scan { speed: P::ZERO, accel: P::ZERO, first_over: None, last: None };
+    let mut prev = [P::ZERO; 3];
     for cycle in 1..=mv.cycles.min(MAX_MOVE_CYCLES) {
-        k = k + S::ONE;
-        let sp = mv.setpoint(robot, cycle, k).map_err(|e| MotionError { cycle, fault: e.into() })?;
-        let arms = sp.joint_rates.iter().zip(prev.iter()).zip(checker.inv_speed.iter().zip(checker.inv_accel.iter()));
+        let sp = mv.setpoint(robot, cycle).map_err(|e| MotionError { cycle, fault: e.into() })?;
+        let rates: [P; 3] = [convert(sp.joint_rates[0])?, convert(sp.joint_rates[1])?, convert(sp.joint_rates[2])?];
+        let arms = rates.iter().zip(prev.iter()).zip(checker.inv_speed.iter().zip(checker.inv_accel.iter()));
         for (arm, ((&w, &w_prev), (&inv_v, &inv_a))) in arms.enumerate() {
             #[allow(clippy::cast_possible_truncation)] // arm < 3
             let arm = arm as u8;
@@ -122,77 +123,79 @@ fn scan<S: Real<Wide = S>>(
             let accel = ((w - w_prev) * checker.rate).abs() * inv_a;
             // `!(x <= 1)` also flags NaN.
             if out.first_over.is_none() {
-                if !(speed <= S::ONE) {
+                if !(speed <= P::ONE) {
                     out.first_over = Some(MotionError { cycle, fault: MotionFault::JointSpeed { arm } });
-                } else if !(accel <= S::ONE) {
+                } else if !(accel <= P::ONE) {
                     out.first_over = Some(MotionError { cycle, fault: MotionFault::JointAccel { arm } });
                 }
             }
             out.speed = out.speed.max_of(speed);
             out.accel = out.accel.max_of(accel);
         }
-        prev = sp.joint_rates;
+        prev = rates;
         out.last = Some(sp);
     }
     Ok(out)
 }
 
-/// The move `shaped` stretched in time by `stretch`, with its cycle count.
-fn stretched<S: Real<Wide = S>>(
-    shaped: &Shaped<S>,
-    start: [S; 3],
-    period: S,
-    stretch: S,
-) -> Result<PlannedMove<S>, MotionError> {
-    let inv_stretch = div(S::ONE, stretch)?;
-    let law_dt = period * inv_stretch;
-    let ratio = shaped.profile.duration().to_f64() / law_dt.to_f64();
+/// The move `shaped` stretched in time by at least `stretch`, rounded up
+/// so that it lasts a whole number of cycles.
+fn stretched<S: Real, P: Real<Wide = P>>(
+    shaped: &Shaped<S, P>,
+    start: [S::Wide; 3],
+    start_joints: [S; 3],
+    period: P,
+    stretch: P,
+) -> Result<PlannedMove<S, P>, MotionError> {
+    let law_duration = shaped.profile.duration();
+    let ratio = (law_duration * stretch).to_f64() / period.to_f64();
     let cycles = libm::ceil(ratio).max(1.0);
     if !(cycles <= f64::from(MAX_MOVE_CYCLES)) {
         return Err(MotionError::before_sampling(MotionFault::TooLong));
     }
-    // The stream counts cycles in `S`: the count must be exact there.
-    if S::from_f64(cycles).map(S::to_f64) != Some(cycles) {
-        return Err(MotionError::before_sampling(MotionFault::Unrepresentable));
-    }
     #[allow(clippy::cast_possible_truncation, clippy::cast_sign_loss)] // 1 <= cycles <= 2^20
     let cycles = cycles as u32;
+    let duration = constant::<P>(f64::from(cycles))? * period;
+    // A dwell has no speeds to scale: its stretch is 1.
+    let stretch =
+        if law_duration > P::ZERO && shaped.profile.length() > P::ZERO { div(duration, law_duration)? } else { P::ONE };
     Ok(PlannedMove {
         path: shaped.path,
-        profile: shaped.profile,
+        timing: shaped.profile.timing(cycles, stretch)?,
         start,
         end: shaped.end,
-        end_joints: shaped.end,
+        end_joints: start_joints,
         period,
         cycles,
         stretch,
-        inv_stretch,
-        law_dt,
-        speed_usage: S::ZERO,
-        accel_usage: S::ZERO,
+        duration,
+        speed_usage: P::ZERO,
+        accel_usage: P::ZERO,
+        time_scaled: false,
     })
 }
 
 /// Plans and validates `mv` from `start` (mm) with joint angles
 /// `start_joints` (rad), time scaling it when needed.
-pub(crate) fn plan<S: Real<Wide = S>>(
+pub(crate) fn plan<S: Real, P: Real<Wide = P>>(
     robot: &Robot<S>,
-    checker: &Checker<S>,
-    mv: &Move<S>,
-    start: [S; 3],
+    checker: &Checker<P>,
+    mv: &Move<P>,
+    start: [S::Wide; 3],
     start_joints: [S; 3],
-) -> Result<PlannedMove<S>, MotionError> {
+) -> Result<PlannedMove<S, P>, MotionError> {
     let shaped = shape(mv, start, start_joints)?;
-    let headroom = constant::<S>(TIME_SCALING_HEADROOM)?;
-    let max_stretch = constant::<S>(MAX_TIME_STRETCH)?;
-    let mut stretch = S::ONE;
+    let headroom = constant::<P>(TIME_SCALING_HEADROOM)?;
+    let max_stretch = constant::<P>(MAX_TIME_STRETCH)?;
+    let mut stretch = P::ONE;
     let mut refusal = MotionError::before_sampling(MotionFault::TooLong);
-    for _ in 0..TIME_SCALING_PASSES {
-        let mut planned = stretched(&shaped, start, checker.period, stretch)?;
+    for pass in 0..TIME_SCALING_PASSES {
+        let mut planned = stretched(&shaped, start, start_joints, checker.period, stretch)?;
         let found = scan(robot, checker, &planned)?;
         let Some(over) = found.first_over else {
             planned.speed_usage = found.speed;
             planned.accel_usage = found.accel;
+            planned.time_scaled = pass > 0;
             if let Some(last) = found.last {
                 planned.end = last.position;
                 planned.end_joints = last.joints;
@@ -201,7 +204,8 @@ pub(crate) fn plan<S: Real<Wide = S>>(
         };
         refusal = over;
         let need = found.speed.max_of(found.accel.sqrt());
-        let next = stretch * need * headroom;
+        // The stretch actually streamed (rounded up to whole cycles).
+        let next = planned.stretch * need * headroom;
         if !(next <= max_stretch) {
             break;
         }

@@ -314,6 +314,11 @@ impl<S: Real> Segments<S> {
 }
 
 impl<S: Real> Poly<S> {
+    /// `L / T` for a law of length `l`.
+    fn kv_unit(&self, l: S) -> S {
+        l * self.inv_t
+    }
+
     fn eval(&self, t: S) -> LawSample<S> {
         let u = t * self.inv_t;
         let w = S::ONE - u;
@@ -381,6 +386,203 @@ fn poly7<S: Real>(l: S, v: S, a: S, j: S) -> Result<Poly<S>, MotionError> {
     let kv = constant::<S>(140.0)? * l * inv_t;
     let ka = constant::<S>(420.0)? * l * inv_t * inv_t;
     Ok(Poly { inv_t, c, kv, ka })
+}
+
+/// Sub-cycle resolution of the streamed time: every phase boundary of a
+/// planned law is rounded to `1 / 2^TICK_BITS` of a cycle (1/1024), which
+/// moves the law's position by at most `peak speed * period / 2048`
+/// (0.25 um at 2 m/s and 4 kHz) against the exact law; the streamed law
+/// itself stays continuous and lands exactly on its end. Moves last at
+/// most [`super::MAX_MOVE_CYCLES`] = 2^20 cycles, so tick counts stay
+/// at most 2^30, where [`Arith::ratio`] is valid.
+pub(crate) const TICK_BITS: u32 = 10;
+
+/// One phase of a piecewise-cubic law, in normalised units: with
+/// `u = (ticks - start) / len` in `[0, 1]`, the fraction of the path
+/// covered is `c0 + u (c1 + u (c2 + u c3))` and the path speed (path
+/// unit/s, already time scaled) `w0 + u (w1 + u w2)`.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub(crate) struct Piece<S: Arith> {
+    start: u32,
+    len: u32,
+    c: [S; 4],
+    w: [S::Wide; 3],
+}
+
+#[derive(Clone, Copy, Debug, PartialEq)]
+enum Curve<S: Arith> {
+    /// The first half of a trapezoid or S-curve: jerk, constant
+    /// acceleration, jerk, cruise.
+    Cubic([Piece<S>; 4]),
+    /// The first half of the 4-5-6-7 polynomial: with `u = ticks / half`,
+    /// `s = u^4 (c0 + u (c1 + u (c2 + u c3)))` and speed
+    /// `(u (2 - u))^3 kv`.
+    Poly7 {
+        c: [S; 4],
+        kv: S::Wide,
+    },
+    Hold,
+}
+
+/// A planned law as the stream evaluates it, in any [`Real`] type
+/// including fixed point: time is an integer count of ticks (never a
+/// scalar), each phase is a polynomial in its own normalised time
+/// `u in [0, 1]` with coefficients of order one, the position is the
+/// fraction `sigma in [0, 1]` of the path and the speed is in path units
+/// per second ([`Arith::Wide`]). Built from a [`Profile`] planned in a
+/// float type ([`Profile::timing`]).
+///
+/// Every value stays small: a phase's coefficients `c` are the parts of
+/// the path fraction it covers (each at most 1 in size), its `w` parts of
+/// the peak speed. The second half of the move is the mirror image of the
+/// first (`sigma(T - t) = 1 - sigma(t)`), evaluated from the end, so the
+/// last cycle lands on `sigma = 1` exactly.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub(crate) struct Timing<S: Arith> {
+    /// Ticks in the whole move and in its first half.
+    total: u32,
+    half: u32,
+    /// Speed at the midpoint (the peak).
+    v_mid: S::Wide,
+    curve: Curve<S>,
+}
+
+/// `B::from_f64(a.to_f64())` or an [`MotionFault::Unrepresentable`] error:
+/// the conversion between the planning type and the streaming types.
+pub(crate) fn convert<B: Arith, A: Arith>(a: A) -> Result<B, MotionError> {
+    constant::<B>(a.to_f64())
+}
+
+impl<P: Real> Profile<P> {
+    /// The law prepared for streaming over `cycles` cycles, stretched in
+    /// time by `stretch` (`cycles * period / duration`): speeds are
+    /// divided by it.
+    ///
+    /// # Errors
+    /// [`MotionFault::Unrepresentable`] when a coefficient does not fit
+    /// `S`, or `cycles` is above [`super::MAX_MOVE_CYCLES`].
+    pub(crate) fn timing<S: Real>(&self, cycles: u32, stretch: P) -> Result<Timing<S>, MotionError> {
+        let bad = MotionError::before_sampling(MotionFault::Unrepresentable);
+        if cycles == 0 || cycles > super::MAX_MOVE_CYCLES {
+            return Err(bad);
+        }
+        let total = cycles << TICK_BITS;
+        let half = total / 2;
+        let inv_stretch = div(P::ONE, stretch)?;
+        let (curve, v_mid) = match &self.shape {
+            Shape::Hold => (Curve::Hold, P::ZERO),
+            Shape::Poly(p) => {
+                // With tau = u / 2: 35 tau^4 - 84 tau^5 + 70 tau^6 - 20 tau^7.
+                let c = [35.0 / 16.0, -84.0 / 32.0, 70.0 / 64.0, -20.0 / 128.0];
+                // 140 L/T tau^3 (1 - tau)^3 = 140/64 L/T (u (2 - u))^3.
+                let kv = constant::<P>(140.0 / 64.0)? * p.kv_unit(self.length) * inv_stretch;
+                let c = [constant::<S>(c[0])?, constant::<S>(c[1])?, constant::<S>(c[2])?, constant::<S>(c[3])?];
+                (Curve::Poly7 { c, kv: convert(kv)? }, kv)
+            }
+            Shape::Segments(g) => {
+                let inv_l = div(P::ONE, self.length)?;
+                let ticks_per_s = f64::from(total) / self.duration.to_f64();
+                let tick = |t: P| -> u32 {
+                    let v = libm::round(t.to_f64() * ticks_per_s);
+                    // Clamped into [0, half]: the conversion is in range.
+                    #[allow(clippy::cast_possible_truncation, clippy::cast_sign_loss)]
+                    let v = v.clamp(0.0, f64::from(half)) as u32;
+                    v
+                };
+                let (tj, ta) = (g.tj, g.ta);
+                // Boundaries in ticks, each in [0, half] and made monotone.
+                let b1 = tick(tj);
+                let b2 = tick(g.ta_minus_tj).max(b1);
+                let b3 = tick(ta).max(b2);
+                let b = [0, b1, b2, b3, half];
+                // Phase start states (position, speed, acceleration), jerk
+                // and duration, in path units and seconds.
+                let d1 = g.ta_minus_tj - tj;
+                let p2 = g.s1 + (g.v1 + g.ap_half * d1) * d1;
+                let v2 = g.v1 + g.ap * d1;
+                let phases = [
+                    (P::ZERO, P::ZERO, P::ZERO, g.j, tj),
+                    (g.s1, g.v1, g.ap, P::ZERO, d1),
+                    (p2, v2, g.ap, -g.j, tj),
+                    (g.sa, g.vp, P::ZERO, P::ZERO, (self.half - ta).max_of(P::ZERO)),
+                ];
+                let sixth = constant::<P>(1.0 / 6.0)?;
+                let mut pieces = [Piece { start: 0, len: 0, c: [S::ZERO; 4], w: [S::Wide::ZERO; 3] }; 4];
+                for (i, (piece, &(p0, v0, a0, j, d))) in pieces.iter_mut().zip(phases.iter()).enumerate() {
+                    let (start, end) = match (b.get(i), b.get(i + 1)) {
+                        (Some(&s), Some(&e)) => (s, e),
+                        _ => return Err(bad),
+                    };
+                    let d2 = d * d;
+                    *piece = Piece {
+                        start,
+                        len: end - start,
+                        c: [
+                            convert(p0 * inv_l)?,
+                            convert(v0 * d * inv_l)?,
+                            convert(a0 * d2 * P::HALF * inv_l)?,
+                            convert(j * d2 * d * sixth * inv_l)?,
+                        ],
+                        w: [
+                            convert(v0 * inv_stretch)?,
+                            convert(a0 * d * inv_stretch)?,
+                            convert(j * d2 * P::HALF * inv_stretch)?,
+                        ],
+                    };
+                }
+                (Curve::Cubic(pieces), g.vp * inv_stretch)
+            }
+        };
+        Ok(Timing { total, half, v_mid: convert(v_mid)?, curve })
+    }
+}
+
+impl<S: Real> Piece<S> {
+    #[inline]
+    fn eval(&self, ticks: u32) -> (S, S::Wide) {
+        let u = S::ratio(ticks - self.start, self.len);
+        let [c0, c1, c2, c3] = self.c;
+        let [w0, w1, w2] = self.w;
+        (c0 + u * (c1 + u * (c2 + u * c3)), w0 + u.mul_wide(w1 + u.mul_wide(w2)))
+    }
+}
+
+impl<S: Real> Timing<S> {
+    /// The path fraction `sigma in [0, 1]` and the path speed (path
+    /// unit/s) at the end of cycle `cycle` (0 ..= the move's cycles).
+    /// A few comparisons, one [`Arith::ratio`] and about ten
+    /// multiplications; no loop that depends on the input.
+    #[inline]
+    pub(crate) fn sample(&self, cycle: u32) -> (S, S::Wide) {
+        let q = cycle.min(self.total >> TICK_BITS) << TICK_BITS;
+        let mirrored = q > self.half;
+        let f = if mirrored { self.total - q } else { q };
+        let (s, v) = match &self.curve {
+            Curve::Hold => return (S::ZERO, S::Wide::ZERO),
+            _ if f >= self.half => (S::HALF, self.v_mid),
+            Curve::Poly7 { c, kv } => {
+                let u = S::ratio(f, self.half);
+                let [c0, c1, c2, c3] = *c;
+                let u2 = u * u;
+                let g = u * (S::TWO - u);
+                (u2 * u2 * (c0 + u * (c1 + u * (c2 + u * c3))), (g * g * g).mul_wide(*kv))
+            }
+            Curve::Cubic(pieces) => {
+                let [p0, p1, p2, p3] = pieces;
+                let p = if f < p1.start {
+                    p0
+                } else if f < p2.start {
+                    p1
+                } else if f < p3.start {
+                    p2
+                } else {
+                    p3
+                };
+                p.eval(f)
+            }
+        };
+        if mirrored { (S::ONE - s, v) } else { (s, v) }
+    }
 }
 
 /// Peak of `|s''|` of the unit 4-5-6-7 polynomial, `84 / (5 sqrt 5)`.
@@ -522,6 +724,49 @@ mod tests {
     #[test]
     fn profiles_in_f32_keep_limits_continuity_duration_and_arrival() {
         check_profiles::<f32>(&Tol { rel: 2e-5 });
+    }
+
+    /// Streams each case's law at `PERIOD_S` through [`Timing`] in `S` and
+    /// compares every cycle with the law planned and sampled in f64.
+    /// `tol_rel` is the rounding of `S` relative to the length and the
+    /// peak speed; the boundary rounding to ticks adds up to half a tick
+    /// of time (see [`TICK_BITS`]).
+    fn check_timing<S: Real>(tol_rel: f64, tol_speed_abs: f64) {
+        const PERIOD_S: f64 = 2.5e-4;
+        let mut worst = (0.0_f64, 0.0_f64);
+        for law in [Law::Trapezoid, Law::SCurve, Law::Poly7] {
+            for &(l, v, a, j) in &CASES {
+                let p = Profile::plan(law, l, Bounds { speed: v, accel: a, jerk: j }).unwrap();
+                let cycles = (p.duration() / PERIOD_S).ceil();
+                let stretch = cycles * PERIOD_S / p.duration();
+                #[allow(clippy::cast_possible_truncation, clippy::cast_sign_loss)]
+                let timing = p.timing::<S>(cycles as u32, stretch).unwrap();
+                let half_tick_s = PERIOD_S / f64::from(2u32 << TICK_BITS);
+                let (tol_pos, tol_vel) =
+                    (tol_rel * l + v * half_tick_s, tol_rel * v + a * half_tick_s * 4.0 + tol_speed_abs);
+                for k in 0..=cycles as u32 {
+                    let want = p.sample(f64::from(k) * PERIOD_S / stretch);
+                    let (sigma, speed) = timing.sample(k);
+                    let (pos, vel) = (sigma.to_f64() * l, speed.to_f64());
+                    let (e_pos, e_vel) = ((pos - want.pos).abs(), (vel - want.vel / stretch).abs());
+                    assert!(e_pos <= tol_pos, "{law:?} {l}: cycle {k}: {pos} vs {}", want.pos);
+                    assert!(e_vel <= tol_vel, "{law:?} {l}: cycle {k}: {vel} vs {}", want.vel / stretch);
+                    worst = (worst.0.max(e_pos / l), worst.1.max(e_vel / v));
+                }
+                let (end, end_speed) = timing.sample(cycles as u32);
+                assert_eq!((end.to_f64(), end_speed.to_f64()), (1.0, 0.0), "exact arrival at rest");
+            }
+        }
+        assert!(worst.0 > 0.0, "the comparison must see some rounding");
+    }
+
+    #[test]
+    fn streamed_timing_matches_the_law_in_every_type() {
+        check_timing::<f64>(1e-12, 0.0);
+        check_timing::<f32>(1e-6, 0.0);
+        // Q7.25 fraction (LSB 3e-8) and Q18.14 speed (LSB 6.1e-5 path
+        // units/s) rounding, a few operations each.
+        check_timing::<crate::Fixed>(2e-6, 4.0 * 6.1e-5);
     }
 
     #[test]

@@ -4,15 +4,16 @@
 //! both call that function with the same arguments, so every setpoint the
 //! stream emits is one the validation has checked, bit for bit.
 
-use super::error::{MotionError, MoveFault};
-use super::law::{Bounds, Law, Profile, constant, div};
-use super::path::{Path, Pick};
+use super::error::{MotionError, MotionFault, MoveFault};
+use super::law::{Bounds, Law, Profile, Timing, constant, convert, div};
+use super::path::{Path, Pick, Target};
 use crate::error::Error;
 use crate::robot::Robot;
-use crate::scalar::Real;
+use crate::scalar::{Arith, Real};
 
-/// One move, as a caller describes it. The start is always where the
-/// previous move (or the stream's start pose) ends.
+/// One move, as a caller describes it, in the planning type `P` (a float
+/// type; see [`super::Stream`]). The start is always where the previous
+/// move (or the stream's start pose) ends.
 ///
 /// Cartesian quantities in mm, mm/s, mm/s^2, mm/s^3; joint ones in rad,
 /// rad/s, rad/s^2, rad/s^3; times in seconds.
@@ -61,13 +62,13 @@ pub enum Move<S> {
 
 /// One cycle's output.
 #[derive(Clone, Copy, Debug, PartialEq)]
-pub struct Setpoint<S> {
+pub struct Setpoint<S: Arith> {
     /// Platform position (mm).
-    pub position: [S; 3],
+    pub position: [S::Wide; 3],
     /// Joint angles (rad).
     pub joints: [S; 3],
     /// Joint velocities (rad/s).
-    pub joint_rates: [S; 3],
+    pub joint_rates: [S::Wide; 3],
     /// Cycle within the move, 1 for the first cycle after it starts.
     pub cycle: u32,
     /// `true` on the move's last cycle: the setpoint is the move's target.
@@ -76,188 +77,198 @@ pub struct Setpoint<S> {
 
 /// A validated move, ready to be streamed. Built by
 /// [`super::Stream::plan`] or [`super::Stream::push`].
+///
+/// `S` is the type the stream runs in (its path and time law are stored
+/// in `S` and [`Arith::Wide`], see the `motion` module docs); `P` is the
+/// float type the move was planned in (the period, the stretch and the
+/// limit usage figures).
 #[derive(Clone, Copy, Debug, PartialEq)]
-pub struct PlannedMove<S> {
+pub struct PlannedMove<S: Arith, P = S> {
     pub(crate) path: Path<S>,
-    pub(crate) profile: Profile<S>,
-    pub(crate) start: [S; 3],
-    pub(crate) end: [S; 3],
+    pub(crate) timing: Timing<S>,
+    pub(crate) start: [S::Wide; 3],
+    pub(crate) end: [S::Wide; 3],
     /// Joint angles at the end (rad).
     pub(crate) end_joints: [S; 3],
-    pub(crate) period: S,
+    pub(crate) period: P,
     /// Cycles the move lasts; the last one lands on the target.
     pub(crate) cycles: u32,
-    /// Time stretch (>= 1) and its inverse, and the law time per cycle.
-    pub(crate) stretch: S,
-    pub(crate) inv_stretch: S,
-    pub(crate) law_dt: S,
+    /// Time stretch (>= 1) and the stretched duration (s).
+    pub(crate) stretch: P,
+    pub(crate) duration: P,
     /// Largest joint speed and acceleration over the move, as fractions
     /// of their limits.
-    pub(crate) speed_usage: S,
-    pub(crate) accel_usage: S,
+    pub(crate) speed_usage: P,
+    pub(crate) accel_usage: P,
+    /// Whether the validation slowed the move down for a joint limit.
+    pub(crate) time_scaled: bool,
 }
 
-impl<S: Real<Wide = S>> PlannedMove<S> {
+impl<S: Real, P: Real<Wide = P>> PlannedMove<S, P> {
     /// Number of cycles the move lasts.
     #[must_use]
     pub const fn cycles(&self) -> u32 {
         self.cycles
     }
 
-    /// The law's duration after time scaling (s). The move lasts
-    /// `cycles() * period`, the duration rounded up to whole cycles.
+    /// The move's duration after time scaling (s): exactly `cycles() *
+    /// period`. The law is stretched so that it ends on a whole cycle.
     #[must_use]
-    pub fn duration(&self) -> S {
-        self.profile.duration() * self.stretch
+    pub const fn duration(&self) -> P {
+        self.duration
     }
 
     /// Where the move starts (mm).
     #[must_use]
-    pub const fn start(&self) -> [S; 3] {
+    pub const fn start(&self) -> [S::Wide; 3] {
         self.start
     }
 
     /// Where the move ends (mm).
     #[must_use]
-    pub const fn end(&self) -> [S; 3] {
+    pub const fn end(&self) -> [S::Wide; 3] {
         self.end
     }
 
-    /// The time stretch applied: 1 when the move runs as asked, larger
-    /// when it was slowed to respect the joint speed or acceleration
-    /// limits (every speed divided by it, accelerations by its square).
+    /// The time stretch applied: 1 when the move runs as asked (up to the
+    /// rounding of its duration to whole cycles, at most one cycle),
+    /// larger when it was slowed to respect the joint speed or
+    /// acceleration limits (every speed divided by it, accelerations by
+    /// its square).
     #[must_use]
-    pub const fn stretch(&self) -> S {
+    pub const fn stretch(&self) -> P {
         self.stretch
     }
 
-    /// Whether the move was slowed down (time scaled).
+    /// Whether the move was slowed down to respect a joint limit (time
+    /// scaled), beyond the rounding of its duration to whole cycles.
     #[must_use]
-    pub fn time_scaled(&self) -> bool {
-        self.stretch > S::ONE
+    pub const fn time_scaled(&self) -> bool {
+        self.time_scaled
     }
 
     /// Largest joint speed over the move as a fraction of its limit (the
     /// worst arm); at most 1.
     #[must_use]
-    pub const fn speed_usage(&self) -> S {
+    pub const fn speed_usage(&self) -> P {
         self.speed_usage
     }
 
     /// Largest joint acceleration over the move (from successive cycles)
     /// as a fraction of its limit (the worst arm); at most 1.
     #[must_use]
-    pub const fn accel_usage(&self) -> S {
+    pub const fn accel_usage(&self) -> P {
         self.accel_usage
     }
 
     /// The setpoint of cycle `cycle` (1 ..= `cycles()`), for random access
-    /// and tests; the stream counts cycles itself. Identical to what the
-    /// stream emits at that cycle.
+    /// and tests; identical to what the stream emits at that cycle.
     ///
     /// # Errors
     /// The guarded kinematics' error (never for a validated move and a
     /// cycle in range on the robot it was planned for).
     pub fn setpoint_at(&self, robot: &Robot<S>, cycle: u32) -> Result<Setpoint<S>, Error> {
-        let k = S::from_f64(f64::from(cycle)).ok_or(Error::NonFinite { input: crate::error::Input::Position })?;
-        self.setpoint(robot, cycle, k)
+        self.setpoint(robot, cycle)
     }
 
-    /// The setpoint of cycle `cycle`, whose number is also given as `S`
-    /// (`k`, exact). Time law, path, guarded kinematics and joint rates.
+    /// The setpoint of cycle `cycle`: time law, path, guarded kinematics
+    /// and joint rates.
     #[inline]
-    pub(crate) fn setpoint(&self, robot: &Robot<S>, cycle: u32, k: S) -> Result<Setpoint<S>, Error> {
+    pub(crate) fn setpoint(&self, robot: &Robot<S>, cycle: u32) -> Result<Setpoint<S>, Error> {
         let end_of_move = cycle >= self.cycles;
-        let (s, v) = if end_of_move {
-            (self.profile.length(), S::ZERO)
-        } else {
-            let g = self.profile.sample(k * self.law_dt);
-            (g.pos, g.vel * self.inv_stretch)
-        };
-        let p = self.path.at(s);
-        let d = p.tangent;
-        if let Path::Joint { .. } = self.path {
-            let sol = robot.forward(p.point)?;
-            return Ok(Setpoint {
-                position: sol.position,
-                joints: sol.joints,
-                joint_rates: [d[0] * v, d[1] * v, d[2] * v],
-                cycle,
-                end_of_move,
-            });
+        let (sigma, speed) = if end_of_move { (S::ONE, S::Wide::ZERO) } else { self.timing.sample(cycle) };
+        match self.path.at(sigma, speed) {
+            Target::Joints { angles, rates } => {
+                let sol = robot.forward(angles)?;
+                Ok(Setpoint { position: sol.position, joints: sol.joints, joint_rates: rates, cycle, end_of_move })
+            }
+            Target::Cartesian { point, velocity } => {
+                let sol = robot.inverse(point)?;
+                let joint_rates = sol.jacobian.joint_rates(velocity)?;
+                Ok(Setpoint { position: point, joints: sol.joints, joint_rates, cycle, end_of_move })
+            }
         }
-        let sol = robot.inverse(p.point)?;
-        let joint_rates = sol.jacobian.joint_rates([d[0] * v, d[1] * v, d[2] * v])?;
-        Ok(Setpoint { position: p.point, joints: sol.joints, joint_rates, cycle, end_of_move })
     }
 }
 
-fn finite3<S: Real>(v: [S; 3]) -> Result<[S; 3], MotionError> {
+fn finite3<P: Arith>(v: [P; 3]) -> Result<[P; 3], MotionError> {
     if v.iter().all(|x| x.is_finite()) { Ok(v) } else { Err(MotionError::invalid(MoveFault::NonFinite)) }
 }
 
-fn norm3<S: Real>(v: [S; 3]) -> S {
+fn norm3<P: Real>(v: [P; 3]) -> P {
     (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]).sqrt()
 }
 
-/// A path and its (unscaled) time law, before sampling.
-pub(crate) struct Shaped<S> {
+fn convert3<B: Arith, A: Arith>(v: [A; 3]) -> Result<[B; 3], MotionError> {
+    Ok([convert(v[0])?, convert(v[1])?, convert(v[2])?])
+}
+
+/// A path (in the streaming type) and its unscaled time law (in the
+/// planning type), before sampling.
+pub(crate) struct Shaped<S: Arith, P> {
     pub(crate) path: Path<S>,
-    pub(crate) profile: Profile<S>,
-    pub(crate) end: [S; 3],
+    pub(crate) profile: Profile<P>,
+    pub(crate) end: [S::Wide; 3],
 }
 
 /// Builds the path and time law of `mv` from `start` (mm), whose joint
-/// angles are `start_joints` (rad). For a joint move `end` is the start;
-/// the validation replaces it with the solved end point.
-pub(crate) fn shape<S: Real<Wide = S>>(
-    mv: &Move<S>,
-    start: [S; 3],
+/// angles are `start_joints` (rad). The geometry is worked out in the
+/// planning type `P` and stored in the streaming type `S`; the start and
+/// the target are stored as given, so that a move ends exactly where the
+/// next one starts. For a joint move `end` is the start; the validation
+/// replaces it with the solved end point.
+pub(crate) fn shape<S: Real, P: Real<Wide = P>>(
+    mv: &Move<P>,
+    start: [S::Wide; 3],
     start_joints: [S; 3],
-) -> Result<Shaped<S>, MotionError> {
+) -> Result<Shaped<S, P>, MotionError> {
+    let from: [P; 3] = convert3(start)?;
     match *mv {
         Move::Line { to, law, bounds } => {
             let to = finite3(to)?;
-            let delta = [to[0] - start[0], to[1] - start[1], to[2] - start[2]];
+            let delta = [to[0] - from[0], to[1] - from[1], to[2] - from[2]];
             let length = norm3(delta);
-            if !(length > S::ZERO) {
+            if !(length > P::ZERO) {
                 return Err(MotionError::invalid(MoveFault::ZeroLength));
             }
-            let inv = div(S::ONE, length)?;
-            let dir = delta.map(|c| c * inv);
+            let inv = div(P::ONE, length)?;
+            let dir = convert3(delta.map(|c| c * inv))?;
             let profile = Profile::plan(law, length, bounds)?;
-            Ok(Shaped { path: Path::Line { to, dir, length }, profile, end: to })
+            let to = convert3(to)?;
+            Ok(Shaped { path: Path::Line { to, dir, length: convert(length)? }, profile, end: to })
         }
         Move::Pick { to, lift, blend_radius, law, bounds } => {
             let to = finite3(to)?;
-            let [lift, r, _] = finite3([lift, blend_radius, S::ZERO])?;
+            let [lift, r, _] = finite3([lift, blend_radius, P::ZERO])?;
             let blend = MotionError::invalid(MoveFault::Blend);
-            let (dx, dy) = (to[0] - start[0], to[1] - start[1]);
+            let (dx, dy) = (to[0] - from[0], to[1] - from[1]);
             let across = (dx * dx + dy * dy).sqrt();
-            let z_top = start[2].max_of(to[2]) + lift;
-            let (rise, fall) = (z_top - start[2], z_top - to[2]);
-            if !(r > S::ZERO && r <= rise && r <= fall && S::TWO * r <= across) {
+            let z_top = from[2].max_of(to[2]) + lift;
+            let (rise, fall) = (z_top - from[2], z_top - to[2]);
+            if !(r > P::ZERO && r <= rise && r <= fall && P::TWO * r <= across) {
                 return Err(blend);
             }
-            let inv_across = div(S::ONE, across)?;
-            let arc = constant::<S>(core::f64::consts::FRAC_PI_2)? * r;
+            let inv_across = div(P::ONE, across)?;
+            let arc = constant::<P>(core::f64::consts::FRAC_PI_2)? * r;
             let b1 = rise - r;
             let b2 = b1 + arc;
-            let b3 = b2 + (across - S::TWO * r);
+            let b3 = b2 + (across - P::TWO * r);
             let b4 = b3 + arc;
             let length = b4 + (fall - r);
+            let r_s: S::Wide = convert(r)?;
+            let to_s = convert3(to)?;
             let pick = Pick {
                 from: start,
-                to,
-                u: [dx * inv_across, dy * inv_across],
-                z_top,
-                r,
-                inv_r: div(S::ONE, r)?,
-                b: [b1, b2, b3, b4],
-                length,
+                to: to_s,
+                u: [convert(dx * inv_across)?, convert(dy * inv_across)?],
+                z_top: convert(z_top)?,
+                r: r_s,
+                inv_r: S::recip(r_s).ok_or(MotionError::before_sampling(MotionFault::Unrepresentable))?,
+                b: [convert(b1)?, convert(b2)?, convert(b3)?, convert(b4)?],
+                length: convert(length)?,
             };
             let profile = Profile::plan(law, length, bounds)?;
-            Ok(Shaped { path: Path::Pick(pick), profile, end: to })
+            Ok(Shaped { path: Path::Pick(pick), profile, end: to_s })
         }
         Move::Dwell { duration } => {
             let profile = Profile::hold(duration)?;
@@ -265,16 +276,18 @@ pub(crate) fn shape<S: Real<Wide = S>>(
         }
         Move::Joint { to, law, bounds } => {
             let to = finite3(to)?;
-            let delta = [to[0] - start_joints[0], to[1] - start_joints[1], to[2] - start_joints[2]];
+            let q: [P; 3] = convert3(start_joints)?;
+            let delta = [to[0] - q[0], to[1] - q[1], to[2] - q[2]];
             let length = delta[0].abs().max_of(delta[1].abs()).max_of(delta[2].abs());
-            if !(length > S::ZERO) {
+            if !(length > P::ZERO) {
                 return Err(MotionError::invalid(MoveFault::ZeroLength));
             }
-            let inv = div(S::ONE, length)?;
-            let dir = delta.map(|c| c * inv);
+            let inv = div(P::ONE, length)?;
+            let dir = convert3(delta.map(|c| c * inv))?;
             let profile = Profile::plan(law, length, bounds)?;
             // The Cartesian end is known once the last cycle is solved.
-            Ok(Shaped { path: Path::Joint { to, dir, length }, profile, end: start })
+            let path = Path::Joint { to: convert3(to)?, dir, length: convert(length)? };
+            Ok(Shaped { path, profile, end: start })
         }
     }
 }

@@ -15,100 +15,127 @@
 //!   target angles, the one with the largest travel following the time law
 //!   (distance in radians).
 //!
-//! Every path is evaluated from its end point backwards (`to - d (L - s)`),
-//! so `s = L` gives the target exactly, with no rounding left over.
-//! Evaluation is closed form: at most one `sin_cos` (on an arc), no loop.
+//! A path is evaluated from the fraction `sigma in [0, 1]` of its length
+//! that the time law has covered, and the path speed: both of order one
+//! or in API units, so that the same code runs in fixed point. Cartesian
+//! points, lengths and velocities are [`Arith::Wide`] (mm, mm/s); unit
+//! vectors, arc angles and joint angles are the scalar itself. Every path
+//! is evaluated from its end point backwards (`to - d (L - s)`), so
+//! `sigma = 1` gives the target exactly, and `sigma = 0` gives the start
+//! exactly, with no rounding left over; a stream of repeated closed
+//! cycles therefore cannot drift. Evaluation is closed form: at most one
+//! `sin_cos` (on an arc), no loop.
 
-use crate::scalar::Real;
+use crate::scalar::{Arith, Real};
 
-/// A path, in millimetres (Cartesian) or radians (joint space).
+/// A path: Cartesian (mm) or joint space (rad).
 #[derive(Clone, Copy, Debug, PartialEq)]
-pub(crate) enum Path<S> {
+pub(crate) enum Path<S: Arith> {
     /// `p(s) = to - dir (L - s)`, `dir` the unit direction.
-    Line { to: [S; 3], dir: [S; 3], length: S },
+    Line { to: [S::Wide; 3], dir: [S; 3], length: S::Wide },
     /// See [`Pick`].
     Pick(Pick<S>),
     /// Stay at `at`.
-    Hold { at: [S; 3] },
+    Hold { at: [S::Wide; 3] },
     /// Joint angles `to - dir (L - s)`, `dir` the joint travel divided by
-    /// the largest joint travel `L`.
+    /// the largest joint travel `L` (rad).
     Joint { to: [S; 3], dir: [S; 3], length: S },
 }
 
 /// A pick-and-place cycle with blended corners. Break points along the arc
-/// length: rise ends at `b1`, first arc at `b2`, traverse at `b3`, second
-/// arc at `b4`, descent at `length`.
+/// length (mm): rise ends at `b1`, first arc at `b2`, traverse at `b3`,
+/// second arc at `b4`, descent at `length`.
 #[derive(Clone, Copy, Debug, PartialEq)]
-pub(crate) struct Pick<S> {
-    pub(crate) from: [S; 3],
-    pub(crate) to: [S; 3],
+pub(crate) struct Pick<S: Arith> {
+    pub(crate) from: [S::Wide; 3],
+    pub(crate) to: [S::Wide; 3],
     /// Horizontal unit vector from `from` towards `to`.
     pub(crate) u: [S; 2],
     /// Height of the traverse (mm).
-    pub(crate) z_top: S,
-    pub(crate) r: S,
-    pub(crate) inv_r: S,
-    pub(crate) b: [S; 4],
-    pub(crate) length: S,
+    pub(crate) z_top: S::Wide,
+    pub(crate) r: S::Wide,
+    /// `1 / r`, for the arc angle `(s - b) / r` without a division.
+    pub(crate) inv_r: S::Recip,
+    pub(crate) b: [S::Wide; 4],
+    pub(crate) length: S::Wide,
 }
 
-/// A point on a path and its unit tangent (zero for a hold).
-pub(crate) struct PathPoint<S> {
-    pub(crate) point: [S; 3],
-    pub(crate) tangent: [S; 3],
+/// Where a path puts the robot at one instant.
+pub(crate) enum Target<S: Arith> {
+    /// Platform position (mm) and velocity (mm/s).
+    Cartesian { point: [S::Wide; 3], velocity: [S::Wide; 3] },
+    /// Joint angles (rad) and rates (rad/s).
+    Joints { angles: [S; 3], rates: [S::Wide; 3] },
+}
+
+/// `t * v` for a unit vector `t`, as a velocity.
+fn scale3<S: Arith>(t: [S; 3], v: S::Wide) -> [S::Wide; 3] {
+    [t[0].mul_wide(v), t[1].mul_wide(v), t[2].mul_wide(v)]
 }
 
 impl<S: Real> Pick<S> {
-    fn at(&self, s: S) -> PathPoint<S> {
+    /// The point at arc length `s` (mm) and the unit tangent there.
+    fn at(&self, s: S::Wide) -> ([S::Wide; 3], [S; 3]) {
         let [ux, uy] = self.u;
         let [b1, b2, b3, b4] = self.b;
         let (z, o) = (S::ZERO, S::ONE);
         if s < b1 {
             let [x, y, z0] = self.from;
-            return PathPoint { point: [x, y, z0 + s], tangent: [z, z, o] };
+            return ([x, y, z0 + s], [z, z, o]);
         }
         if s < b2 {
             // Centre (from_xy + r u, z_top - r); angle 0 at the rise, pi/2
             // on the traverse.
-            let (sin, cos) = ((s - b1) * self.inv_r).sin_cos();
+            let (sin, cos) = S::mul_recip(s - b1, self.inv_r).sin_cos();
             let [x, y, _] = self.from;
-            let (h, v) = (self.r * (S::ONE - cos), self.z_top - self.r + self.r * sin);
-            return PathPoint { point: [x + h * ux, y + h * uy, v], tangent: [sin * ux, sin * uy, cos] };
+            let (h, v) = ((S::ONE - cos).mul_wide(self.r), self.z_top - self.r + sin.mul_wide(self.r));
+            return ([x + ux.mul_wide(h), y + uy.mul_wide(h), v], [sin * ux, sin * uy, cos]);
         }
         if s < b3 {
             // Measured back from the end of the traverse.
             let back = b3 - s;
             let [x, y, _] = self.to;
             let h = self.r + back;
-            return PathPoint { point: [x - h * ux, y - h * uy, self.z_top], tangent: [ux, uy, z] };
+            return ([x - ux.mul_wide(h), y - uy.mul_wide(h), self.z_top], [ux, uy, z]);
         }
         if s < b4 {
             // Centre (to_xy - r u, z_top - r); angle 0 on the traverse,
             // pi/2 at the descent.
-            let (sin, cos) = ((s - b3) * self.inv_r).sin_cos();
+            let (sin, cos) = S::mul_recip(s - b3, self.inv_r).sin_cos();
             let [x, y, _] = self.to;
-            let (h, v) = (self.r * (S::ONE - sin), self.z_top - self.r + self.r * cos);
-            return PathPoint { point: [x - h * ux, y - h * uy, v], tangent: [cos * ux, cos * uy, -sin] };
+            let (h, v) = ((S::ONE - sin).mul_wide(self.r), self.z_top - self.r + cos.mul_wide(self.r));
+            return ([x - ux.mul_wide(h), y - uy.mul_wide(h), v], [cos * ux, cos * uy, -sin]);
         }
         let [x, y, z1] = self.to;
-        PathPoint { point: [x, y, z1 + (self.length - s)], tangent: [z, z, -o] }
+        ([x, y, z1 + (self.length - s)], [z, z, -o])
     }
 }
 
 impl<S: Real> Path<S> {
-    /// The point at distance `s` and the unit tangent there (for a joint
-    /// path, the joint angles and the joint direction).
-    pub(crate) fn at(&self, s: S) -> PathPoint<S> {
+    /// Where the path is after the fraction `sigma` of its length, moving
+    /// at path speed `speed` (mm/s, or rad/s for a joint path).
+    pub(crate) fn at(&self, sigma: S, speed: S::Wide) -> Target<S> {
         match self {
-            Path::Line { to, dir, length } | Path::Joint { to, dir, length } => {
-                let back = *length - s;
-                PathPoint {
-                    point: [to[0] - dir[0] * back, to[1] - dir[1] * back, to[2] - dir[2] * back],
-                    tangent: *dir,
+            Path::Line { to, dir, length } => {
+                let back = (S::ONE - sigma).mul_wide(*length);
+                let [d0, d1, d2] = *dir;
+                Target::Cartesian {
+                    point: [to[0] - d0.mul_wide(back), to[1] - d1.mul_wide(back), to[2] - d2.mul_wide(back)],
+                    velocity: scale3(*dir, speed),
                 }
             }
-            Path::Pick(p) => p.at(s),
-            Path::Hold { at } => PathPoint { point: *at, tangent: [S::ZERO; 3] },
+            Path::Joint { to, dir, length } => {
+                let back = (S::ONE - sigma) * *length;
+                Target::Joints {
+                    angles: [to[0] - dir[0] * back, to[1] - dir[1] * back, to[2] - dir[2] * back],
+                    rates: scale3(*dir, speed),
+                }
+            }
+            Path::Pick(p) => {
+                let (point, tangent) = p.at(sigma.mul_wide(p.length));
+                Target::Cartesian { point, velocity: scale3(tangent, speed) }
+            }
+            Path::Hold { at } => Target::Cartesian { point: *at, velocity: [S::Wide::ZERO; 3] },
         }
     }
 }
@@ -131,22 +158,22 @@ mod tests {
         let to = [152.5, 20.0, -740.0];
         let bounds = Bounds { speed: 1.0, accel: 1.0, jerk: 1.0 };
         let mv = Move::Pick { to, lift: 25.0, blend_radius: 10.0, law: Law::SCurve, bounds };
-        let Path::Pick(p) = shape(&mv, from, [0.0; 3]).unwrap().path else {
+        let Path::Pick(p) = shape::<f64, f64>(&mv, from, [0.0; 3]).unwrap().path else {
             unreachable!("a pick move shapes a pick path")
         };
-        assert_eq!(p.at(0.0).point, from);
-        assert_eq!(p.at(p.length).point, to);
+        assert_eq!(p.at(0.0).0, from);
+        assert_eq!(p.at(p.length).0, to);
         // Top of the traverse: 25 mm above the higher end.
-        assert!((p.at(0.5 * (p.b[1] + p.b[2])).point[2] - (-715.0)).abs() < JOIN_MM);
+        assert!((p.at(0.5 * (p.b[1] + p.b[2])).0[2] - (-715.0)).abs() < JOIN_MM);
         for b in p.b {
             let (l, r) = (p.at(b - EPS_S), p.at(b + EPS_S));
             for i in 0..3 {
-                assert!((l.point[i] - r.point[i]).abs() < JOIN_MM, "point at {b}");
-                assert!((l.tangent[i] - r.tangent[i]).abs() < JOIN_TANGENT, "tangent at {b}");
+                assert!((l.0[i] - r.0[i]).abs() < JOIN_MM, "point at {b}");
+                assert!((l.1[i] - r.1[i]).abs() < JOIN_TANGENT, "tangent at {b}");
             }
         }
         for i in 0..=1000 {
-            let t = p.at(p.length * f64::from(i) / 1000.0).tangent;
+            let t = p.at(p.length * f64::from(i) / 1000.0).1;
             let n = (t[0] * t[0] + t[1] * t[1] + t[2] * t[2]).sqrt();
             assert!((n - 1.0).abs() < JOIN_TANGENT);
         }
@@ -160,7 +187,7 @@ mod tests {
             [([10.0, 0.0, -700.0], 25.0, 10.0), ([300.0, 0.0, -700.0], 5.0, 10.0), ([0.0; 3], 5.0, 1.0)]
         {
             let mv = Move::Pick { to, lift, blend_radius: r, law: Law::Trapezoid, bounds };
-            assert!(shape(&mv, from, [0.0; 3]).is_err());
+            assert!(shape::<f64, f64>(&mv, from, [0.0; 3]).is_err());
         }
     }
 }

@@ -6,7 +6,7 @@ use super::check::{Checker, JointRateLimits, plan};
 use super::error::{MotionError, MotionFault};
 use super::moves::{Move, PlannedMove, Setpoint};
 use crate::robot::Robot;
-use crate::scalar::Real;
+use crate::scalar::{Arith, Real};
 
 /// What [`Stream::push`] reports about an accepted move.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -27,7 +27,7 @@ pub struct Accepted<S> {
 
 /// One cycle of the stream: the setpoint and the move it belongs to.
 #[derive(Clone, Copy, Debug, PartialEq)]
-pub struct StreamSetpoint<S> {
+pub struct StreamSetpoint<S: Arith> {
     /// The move's number (see [`Accepted::id`]).
     pub move_id: u32,
     /// Position, joints, joint rates, cycle within the move, end flag.
@@ -43,32 +43,43 @@ pub struct StreamSetpoint<S> {
 /// path, guarded kinematics, Jacobian) and never loops.
 ///
 /// # Between consecutive moves
-/// Every move starts where the previous one ends and every time law runs
-/// from rest to rest, so at the junction of two moves the platform stops:
-/// the last cycle of one move is its target at zero velocity, the next
-/// cycle is the first cycle of the next move. No cycle is inserted or
-/// lost and nothing jumps, whatever angle the two paths make. Corners
-/// that should be taken without stopping belong inside one move: the pick
-/// cycle rounds its two corners with arcs and runs one time law over the
-/// whole path.
+/// Moves are not joined: every move starts where the previous one ends
+/// and every time law runs from rest to rest, so at the junction of two
+/// moves the platform stops. Each law is stretched (by less than one
+/// cycle) to last a whole number of cycles, so the last cycle of a move
+/// is exactly its target at zero velocity, on the law's own deceleration
+/// (zero acceleration for the S-curve and the polynomial; the trapezoid's
+/// acceleration steps, as it does everywhere in that law); the next cycle
+/// is the first cycle of the next move. No cycle is inserted or lost and
+/// nothing jumps, whatever angle the two paths make; the cost is the
+/// stop. Corners that should be taken without stopping belong inside one
+/// move: the pick cycle rounds its two corners with arcs and runs one
+/// time law over the whole path. Blending consecutive moves through a
+/// corner is not implemented.
+///
+/// # Number types
+/// `S` is the type the stream computes each cycle in (`f32`, `f64` or
+/// [`crate::Fixed`]); positions, velocities and joint rates are in its
+/// [`Arith::Wide`] type. `P` is the float type moves are given and
+/// planned in (`S` by default; `f32` for a fixed-point stream). See the
+/// `motion` module documentation.
 #[derive(Clone, Debug)]
-pub struct Stream<S: crate::scalar::Arith, const N: usize> {
+pub struct Stream<S: Arith, const N: usize, P = S> {
     robot: Robot<S>,
-    checker: Checker<S>,
-    queue: Deque<(u32, PlannedMove<S>), N>,
-    /// Cycle within the front move, as an integer and as an exact `S`.
+    checker: Checker<P>,
+    queue: Deque<(u32, PlannedMove<S, P>), N>,
+    /// Cycle within the front move (an integer: time is never a scalar).
     cycle: u32,
-    k: S,
     /// Where the last queued move ends (or the stream's start).
-    tail: [S; 3],
+    tail: [S::Wide; 3],
     tail_joints: [S; 3],
     /// The last emitted setpoint's position and joints.
-    last_position: [S; 3],
+    last_position: [S::Wide; 3],
     last_joints: [S; 3],
     next_id: u32,
 }
 
-impl<S: Real<Wide = S>, const N: usize> Stream<S, N> {
+impl<S: Real, P: Real<Wide = P>, const N: usize> Stream<S, N, P> {
     /// A stream at rest at `start` (mm), emitting one setpoint every
     /// `period` seconds and keeping joint speeds and accelerations inside
     /// `limits`.
@@ -76,7 +87,12 @@ impl<S: Real<Wide = S>, const N: usize> Stream<S, N> {
     /// # Errors
     /// An invalid period or limit ([`MotionFault::InvalidMove`]), or the
     /// guarded kinematics' error at `start`.
-    pub fn new(robot: Robot<S>, period: S, limits: JointRateLimits<S>, start: [S; 3]) -> Result<Self, MotionError> {
+    pub fn new(
+        robot: Robot<S>,
+        period: P,
+        limits: JointRateLimits<P>,
+        start: [S::Wide; 3],
+    ) -> Result<Self, MotionError> {
         const { assert!(N > 0, "a stream needs room for at least one move") };
         let checker = Checker::new(period, &limits)?;
         let at_start = robot.inverse(start).map_err(|e| MotionError::before_sampling(e.into()))?;
@@ -85,7 +101,6 @@ impl<S: Real<Wide = S>, const N: usize> Stream<S, N> {
             checker,
             queue: Deque::new(),
             cycle: 0,
-            k: S::ZERO,
             tail: start,
             tail_joints: at_start.joints,
             last_position: start,
@@ -99,7 +114,7 @@ impl<S: Real<Wide = S>, const N: usize> Stream<S, N> {
     ///
     /// # Errors
     /// The first reason the move cannot run (see [`MotionFault`]).
-    pub fn plan(&self, mv: &Move<S>) -> Result<PlannedMove<S>, MotionError> {
+    pub fn plan(&self, mv: &Move<P>) -> Result<PlannedMove<S, P>, MotionError> {
         plan(&self.robot, &self.checker, mv, self.tail, self.tail_joints)
     }
 
@@ -108,7 +123,7 @@ impl<S: Real<Wide = S>, const N: usize> Stream<S, N> {
     ///
     /// # Errors
     /// [`MotionFault::QueueFull`], or the first reason the move cannot run.
-    pub fn push(&mut self, mv: &Move<S>) -> Result<Accepted<S>, MotionError> {
+    pub fn push(&mut self, mv: &Move<P>) -> Result<Accepted<P>, MotionError> {
         if self.queue.is_full() {
             return Err(MotionError::before_sampling(MotionFault::QueueFull));
         }
@@ -132,7 +147,7 @@ impl<S: Real<Wide = S>, const N: usize> Stream<S, N> {
     /// [`MotionFault::QueueFull`]; [`MotionFault::Discontinuous`] when the
     /// move does not start exactly where the queue ends or was planned for
     /// another period.
-    pub fn push_planned(&mut self, planned: PlannedMove<S>) -> Result<u32, MotionError> {
+    pub fn push_planned(&mut self, planned: PlannedMove<S, P>) -> Result<u32, MotionError> {
         if self.queue.is_full() {
             return Err(MotionError::before_sampling(MotionFault::QueueFull));
         }
@@ -158,16 +173,14 @@ impl<S: Real<Wide = S>, const N: usize> Stream<S, N> {
     pub fn next_setpoint(&mut self) -> Result<Option<StreamSetpoint<S>>, MotionError> {
         let Some(&(move_id, mv)) = self.queue.front() else { return Ok(None) };
         self.cycle = self.cycle.saturating_add(1);
-        self.k = self.k + S::ONE;
         let cycle = self.cycle;
-        match mv.setpoint(&self.robot, cycle, self.k) {
+        match mv.setpoint(&self.robot, cycle) {
             Ok(setpoint) => {
                 self.last_position = setpoint.position;
                 self.last_joints = setpoint.joints;
                 if setpoint.end_of_move {
                     let _ = self.queue.pop_front();
                     self.cycle = 0;
-                    self.k = S::ZERO;
                 }
                 Ok(Some(StreamSetpoint { move_id, setpoint }))
             }
@@ -187,7 +200,6 @@ impl<S: Real<Wide = S>, const N: usize> Stream<S, N> {
         self.tail_joints = self.last_joints;
         self.queue.clear();
         self.cycle = 0;
-        self.k = S::ZERO;
     }
 
     /// Moves queued, including the one running.
@@ -210,13 +222,13 @@ impl<S: Real<Wide = S>, const N: usize> Stream<S, N> {
 
     /// Where the last queued move ends (mm): the start of the next push.
     #[must_use]
-    pub const fn tail(&self) -> [S; 3] {
+    pub const fn tail(&self) -> [S::Wide; 3] {
         self.tail
     }
 
     /// The cycle period (s).
     #[must_use]
-    pub const fn period(&self) -> S {
+    pub const fn period(&self) -> P {
         self.checker.period
     }
 

@@ -161,6 +161,22 @@ fn div_raw(a: i32, b: i32, frac: u32) -> Option<i32> {
     if q == NAN { None } else { Some(q) }
 }
 
+/// `num * 2^frac / den`, rounded to nearest, or NaN when `den` is 0 or the
+/// quotient is out of range.
+#[inline]
+fn ratio_raw(num: u32, den: u32, frac: u32) -> i32 {
+    if den == 0 {
+        return NAN;
+    }
+    // num < 2^32, frac <= 25: the shifted numerator is below 2^57.
+    let (n, d) = (u64::from(num) << frac, u64::from(den));
+    let q = (n + d / 2) / d;
+    match i64::try_from(q) {
+        Ok(q) => narrow(q),
+        Err(_) => NAN,
+    }
+}
+
 /// `round(v * 2^frac)` or `None` when not finite or out of range.
 fn from_f64_raw(v: f64, frac: u32) -> Option<i32> {
     // libm::round: ties away from zero.
@@ -433,6 +449,12 @@ impl Arith for Fixed {
         Self(r.apply(num.0, FRAC))
     }
 
+    /// One 64-bit division, rounded to nearest (half an LSB).
+    #[inline]
+    fn ratio(num: u32, den: u32) -> Self {
+        Self(ratio_raw(num, den, FRAC))
+    }
+
     /// The validated envelope: lower arm within
     /// [`Fixed::ENVELOPE_MIN_LOWER_ARM_MM`] and
     /// [`Fixed::ENVELOPE_MAX_LOWER_ARM_MM`], `a >=`
@@ -523,6 +545,11 @@ impl Arith for FixedWide {
     #[inline]
     fn mul_recip(num: Self, r: FixedRecip) -> Self {
         Self(r.apply(num.0, WIDE_FRAC))
+    }
+
+    #[inline]
+    fn ratio(num: u32, den: u32) -> Self {
+        Self(ratio_raw(num, den, WIDE_FRAC))
     }
 
     /// `FixedWide` is an API type only (it does not implement
@@ -637,6 +664,18 @@ mod tests {
         // Quotient out of range: NaN, not a wrapped value.
         let r = Fixed::recip(FixedWide::from_mm(100).unwrap()).unwrap();
         assert!(!Fixed::mul_recip(FixedWide::from_mm(131_000).unwrap(), r).is_finite());
+    }
+
+    #[test]
+    fn ratios_round_to_nearest() {
+        for (n, d) in [(0u32, 7u32), (1, 3), (2, 3), (255, 256), (1 << 28, 1 << 28), (123_456_789, 268_435_455)] {
+            let want = f64::from(n) / f64::from(d);
+            assert!((Fixed::ratio(n, d).to_f64() - want).abs() <= 0.5 * LSB, "{n}/{d}");
+        }
+        assert_eq!(Fixed::ratio(5, 5), Fixed::ONE);
+        assert!(!Fixed::ratio(1, 0).is_finite());
+        assert!(!Fixed::ratio(u32::MAX, 1).is_finite());
+        assert_eq!(FixedWide::ratio(3, 4).to_f64(), 0.75);
     }
 
     #[test]

@@ -171,6 +171,17 @@ impl Arith for f32 {
     }
 
     #[inline]
+    fn ratio(num: u32, den: u32) -> Self {
+        if den == 0 {
+            return f32::NAN;
+        }
+        // Exact below 2^24 (f32) and 2^53 (f64); otherwise rounded once.
+        #[allow(clippy::cast_precision_loss)]
+        let (n, d) = (num as f32, den as f32);
+        n / d
+    }
+
+    #[inline]
     fn admits_geometry(_lower_arm: Self, _a: Self, _d: Self) -> bool {
         true
     }

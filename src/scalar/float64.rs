@@ -30,6 +30,17 @@ impl Arith for f64 {
     }
 
     #[inline]
+    fn ratio(num: u32, den: u32) -> Self {
+        if den == 0 {
+            return f64::NAN;
+        }
+        // Exact below 2^24 (f32) and 2^53 (f64); otherwise rounded once.
+        #[allow(clippy::cast_precision_loss)]
+        let (n, d) = (num as f64, den as f64);
+        n / d
+    }
+
+    #[inline]
     fn admits_geometry(_lower_arm: Self, _a: Self, _d: Self) -> bool {
         true
     }

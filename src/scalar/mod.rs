@@ -103,6 +103,16 @@ pub trait Arith:
     #[must_use]
     fn admits_geometry(lower_arm: Self::Wide, a: Self, d: Self) -> bool;
 
+    /// `num / den`, rounded to nearest: a fraction from two counts (the
+    /// motion layer's time within a phase of a move, counted in
+    /// sub-cycle ticks). Valid for `num <= den < 2^31`; accuracy half an
+    /// LSB for fixed point, one rounding of each operand and of the
+    /// quotient for floats (relative error below 2e-7 in `f32`). Not a
+    /// number (for fixed point: the reserved value) when `den` is 0 or the
+    /// quotient is out of range.
+    #[must_use]
+    fn ratio(num: u32, den: u32) -> Self;
+
     /// Absolute value. For a bounded integer representation the most
     /// negative value saturates to the most positive one.
     #[must_use]
