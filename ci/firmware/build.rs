@@ -123,41 +123,45 @@ fn shell_pair(robot: &Robot<f64>, centre: [f64; 3], dir: [f64; 3]) -> Option<([f
     (inside > 0.0 && ok(inside) && !ok(outside)).then(|| (add(centre, dir, inside), add(centre, dir, outside)))
 }
 
-/// Formats one scalar's table module.
-fn table<W: Copy, N: Copy>(
+/// The probe's points: inside ones with their f64 joints, outside ones.
+struct Points {
+    inside: Vec<([f64; 3], [f64; 3])>,
+    outside: Vec<[f64; 3]>,
+}
+
+/// Formats one scalar's table module; `wide` and `narrow` turn a value
+/// into the literal of its raw bits as the scalar's `Wide` and own type.
+fn table(
     name: &str,
     ty: &str,
     n: &RobotNumbers,
-    inside: &[([f64; 3], [f64; 3])],
-    outside: &[[f64; 3]],
-    wide: impl Fn(f64) -> W,
-    narrow: impl Fn(f64) -> N,
-    show_w: impl Fn(W) -> String,
-    show_n: impl Fn(N) -> String,
+    points: &Points,
+    wide: impl Fn(f64) -> String,
+    narrow: impl Fn(f64) -> String,
 ) -> String {
     let mut s = String::new();
-    let w3 = |p: [f64; 3]| p.map(|v| show_w(wide(v))).join(", ");
-    let n3 = |p: [f64; 3]| p.map(|v| show_n(narrow(v))).join(", ");
+    let w3 = |p: [f64; 3]| p.map(&wide).join(", ");
+    let n3 = |p: [f64; 3]| p.map(&narrow).join(", ");
     let _ = writeln!(s, "pub mod {name} {{");
     let _ = writeln!(s, "    /// base radius, platform radius, upper arm, lower arm (mm), as `Wide` raw values.");
-    let _ = writeln!(s, "    pub const GEOMETRY: [{ty}; 4] = [{}];", n.geometry.map(|v| show_w(wide(v))).join(", "));
+    let _ = writeln!(s, "    pub const GEOMETRY: [{ty}; 4] = [{}];", n.geometry.map(&wide).join(", "));
     let _ = writeln!(s, "    /// joint min, joint max, passive cone (rad), serial and parallel margin, raw.");
-    let _ = writeln!(s, "    pub const LIMITS: [{ty}; 5] = [{}];", n.limits.map(|v| show_n(narrow(v))).join(", "));
+    let _ = writeln!(s, "    pub const LIMITS: [{ty}; 5] = [{}];", n.limits.map(&narrow).join(", "));
     let _ = writeln!(s, "    /// Inside points: position (mm, `Wide` raw) and f64 joints (rad, raw).");
-    let _ = writeln!(s, "    pub const INSIDE: [[[{ty}; 3]; 2]; {}] = [", inside.len());
-    for (p, j) in inside {
+    let _ = writeln!(s, "    pub const INSIDE: [[[{ty}; 3]; 2]; {}] = [", points.inside.len());
+    for (p, j) in &points.inside {
         let _ = writeln!(s, "        [[{}], [{}]],", w3(*p), n3(*j));
     }
     let _ = writeln!(s, "    ];");
     let _ = writeln!(s, "    /// Outside points: position (mm, `Wide` raw).");
-    let _ = writeln!(s, "    pub const OUTSIDE: [[{ty}; 3]; {}] = [", outside.len());
-    for p in outside {
+    let _ = writeln!(s, "    pub const OUTSIDE: [[{ty}; 3]; {}] = [", points.outside.len());
+    for p in &points.outside {
         let _ = writeln!(s, "        [{}],", w3(*p));
     }
     let _ = writeln!(s, "    ];");
     let _ = writeln!(s, "    /// Sanity tolerances: joint angle (rad, raw) and position (mm, `Wide` raw).");
-    let _ = writeln!(s, "    pub const JOINT_TOL: {ty} = {};", show_n(narrow(JOINT_TOL_RAD)));
-    let _ = writeln!(s, "    pub const POSITION_TOL: {ty} = {};", show_w(wide(POSITION_TOL_MM)));
+    let _ = writeln!(s, "    pub const JOINT_TOL: {ty} = {};", narrow(JOINT_TOL_RAD));
+    let _ = writeln!(s, "    pub const POSITION_TOL: {ty} = {};", wide(POSITION_TOL_MM));
     let _ = writeln!(s, "}}");
     s
 }
@@ -229,29 +233,17 @@ fn points() -> String {
         outside.len()
     );
     let _ = writeln!(s, "pub const GRID_POINTS: usize = {};", inside.len() - pairs.len());
-    let raw_fixed = |v: Option<Fixed>| v.unwrap_or_else(|| panic!("value out of Fixed range")).to_raw();
-    let raw_wide = |v: Option<FixedWide>| v.unwrap_or_else(|| panic!("value out of FixedWide range")).to_raw();
-    s += &table(
-        "f32_table",
-        "u32",
-        &numbers,
-        &inside,
-        &outside,
-        |v| (v as f32).to_bits(),
-        |v| (v as f32).to_bits(),
-        |b| format!("0x{b:08x}"),
-        |b| format!("0x{b:08x}"),
-    );
-    s += &table(
-        "fixed_table",
-        "i32",
-        &numbers,
-        &inside,
-        &outside,
-        |v| raw_wide(FixedWide::from_f64(v)),
-        |v| raw_fixed(Fixed::from_f64(v)),
-        |r| r.to_string(),
-        |r| r.to_string(),
-    );
+    let points = Points { inside, outside };
+    let bits = |v: f64| format!("0x{:08x}", (v as f32).to_bits());
+    let fixed = |v: f64| match Fixed::from_f64(v) {
+        Some(f) => f.to_raw().to_string(),
+        None => panic!("{v} is out of the Fixed range"),
+    };
+    let fixed_wide = |v: f64| match FixedWide::from_f64(v) {
+        Some(f) => f.to_raw().to_string(),
+        None => panic!("{v} is out of the FixedWide range"),
+    };
+    s += &table("f32_table", "u32", &numbers, &points, bits, bits);
+    s += &table("fixed_table", "i32", &numbers, &points, fixed_wide, fixed);
     s
 }
