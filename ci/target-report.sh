@@ -7,7 +7,7 @@
 #   thumbv6m-none-eabi    on microbit   (Cortex-M0),  fixed point, and f32 (soft float)
 #
 # For each: instructions per call (worst, median) of guarded inverse and
-# forward kinematics and of one setpoint step (float only), stack bytes per
+# forward kinematics and of one setpoint step, stack bytes per
 # call, the flash each call pulls in (a probe built with that call alone
 # against one with none), flash of inverse + forward together, and the size
 # of a Robot value. Measures only; the gates live in the report.
@@ -18,8 +18,7 @@
 #               "worst_instructions":N,"median_instructions":N,
 #               "stack_bytes":N,"flash_bytes":N}, ...],
 #     "flash_kinematics_bytes":N}, ...]}
-# A call the build does not offer (the setpoint step in fixed point) is
-# left out of "calls".
+# A call the build does not offer is left out of "calls".
 #
 # Toolchain: ci/cross-env.sh (rustup targets when present, else Debian's
 # rustc with build-std, installing packages as needed); qemu-system-arm is
@@ -130,10 +129,8 @@ for config in "${CONFIGS[@]}"; do
         build "$target" "$(with "$call")" "$tag-$call"
         flash[$call]=$(($(flash_of "$WORK/$tag-$call.elf") - base))
     done
-    if [ "$scalar" != fixed ]; then
-        build "$target" "$(with step)" "$tag-step"
-        flash[setpoint_step]=$(($(flash_of "$WORK/$tag-step.elf") - base))
-    fi
+    build "$target" "$(with step)" "$tag-step"
+    flash[setpoint_step]=$(($(flash_of "$WORK/$tag-step.elf") - base))
     build "$target" "$(with inverse forward)" "$tag-kinematics"
     kinematics=$(($(flash_of "$WORK/$tag-kinematics.elf") - base))
 

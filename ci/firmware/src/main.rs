@@ -292,21 +292,23 @@ fn forward(robot: &Robot<S>, j: [S; 3], _expected: [W; 3]) -> Option<[W; 3]> {
     }
 }
 
-#[cfg(all(feature = "step", not(feature = "fixed")))]
-const STREAM_BYTES: usize = core::mem::size_of::<deltakin::motion::Stream<f32, 2>>();
-#[cfg(not(all(feature = "step", not(feature = "fixed"))))]
+#[cfg(feature = "step")]
+const STREAM_BYTES: usize = core::mem::size_of::<deltakin::motion::Stream<S, 2, f32>>();
+#[cfg(not(feature = "step"))]
 const STREAM_BYTES: usize = 0;
 
 /// One setpoint step per control cycle over a short stretch of the demo
 /// pick cycle (`examples/firmware_loop.rs`) at 1 kHz: a line from rest to
 /// the pick station, then one pick-and-place cycle to the place station.
-/// Planning (`push`) runs outside the measurement.
-#[cfg(all(feature = "step", not(feature = "fixed")))]
-fn setpoint_steps(robot: Robot<f32>, clock: &Clock, stats: &mut Stats) {
+/// Planning (`push`) runs outside the measurement, in f32 (soft float on
+/// the Cortex-M0); the per-cycle step runs in the probe's scalar.
+#[cfg(feature = "step")]
+fn setpoint_steps(robot: Robot<S>, clock: &Clock, stats: &mut Stats) {
     use deltakin::motion::{Bounds, JointRateLimits, Law, Move, Stream};
     const HOME: [f32; 3] = [0.0, 0.0, -700.0];
     const PICK: [f32; 3] = [-152.5, 60.0, -760.0];
     const PLACE: [f32; 3] = [152.5, 60.0, -760.0];
+    let to_wide = |p: [f32; 3]| p.map(|v| W::from_f64(f64::from(v)).unwrap_or(W::ZERO));
     const PERIOD_S: f32 = 1.0e-3;
     let deg = |v: f32| v.to_radians();
     let fast = Bounds { speed: 2500.0, accel: 40_000.0, jerk: 2.0e6 };
@@ -316,7 +318,7 @@ fn setpoint_steps(robot: Robot<f32>, clock: &Clock, stats: &mut Stats) {
         Move::Pick { to: PLACE, lift: 25.0, blend_radius: 10.0, law: Law::SCurve, bounds: fast },
     ];
     let limits = JointRateLimits { speed: [deg(720.0); 3], accel: [deg(15_000.0); 3] };
-    let mut stream: Stream<f32, 2> = match Stream::new(robot, PERIOD_S, limits, HOME) {
+    let mut stream: Stream<S, 2, f32> = match Stream::new(robot, PERIOD_S, limits, to_wide(HOME)) {
         Ok(s) => s,
         Err(_) => fail("step: the stream refuses the demo start"),
     };
@@ -344,7 +346,7 @@ fn setpoint_steps(robot: Robot<f32>, clock: &Clock, stats: &mut Stats) {
         fail("step: setpoint count differs from the planned cycles");
     }
     // Each move ends exactly on its target (the stream's documented promise).
-    if last != Some(PLACE) {
+    if last != Some(to_wide(PLACE)) {
         fail("step: the stream does not end on the place station");
     }
 }
@@ -410,14 +412,12 @@ fn main() -> ! {
     }
     stats.report(cfg!(feature = "forward"), "forward");
 
-    #[cfg(all(feature = "step", not(feature = "fixed")))]
+    #[cfg(feature = "step")]
     {
         let mut stats = Stats::new(&mut buffer);
         setpoint_steps(robot, &clock, &mut stats);
         stats.report(true, "setpoint_step");
     }
-    #[cfg(all(feature = "step", feature = "fixed"))]
-    hprintln!("unavailable setpoint_step the motion layer is float-only");
 
     hprintln!("ok");
     halt(debug::EXIT_SUCCESS)
