@@ -25,6 +25,23 @@ fn ticks_of<R>(syst: &SYST, f: impl FnOnce() -> R) -> (u32, R) {
     (t0.wrapping_sub(t1) & RELOAD, r)
 }
 
+/// 1000 `nop`s, for calibrating ticks per instruction.
+#[inline(never)]
+fn nops_1000() {
+    for _ in 0..100 {
+        cortex_m::asm::nop();
+        cortex_m::asm::nop();
+        cortex_m::asm::nop();
+        cortex_m::asm::nop();
+        cortex_m::asm::nop();
+        cortex_m::asm::nop();
+        cortex_m::asm::nop();
+        cortex_m::asm::nop();
+        cortex_m::asm::nop();
+        cortex_m::asm::nop();
+    }
+}
+
 #[entry]
 fn main() -> ! {
     let mut cp = cortex_m::Peripherals::take().unwrap();
@@ -40,13 +57,23 @@ fn main() -> ! {
     ).unwrap();
     let (empty, _) = ticks_of(syst, || core::hint::black_box(0));
     let mut worst = 0;
+    let mut ik_ok = 0u32;
     for i in 0..5 {
         let p = core::hint::black_box([10.0 * i as f32, -20.0, -700.0]);
         let (t, r) = ticks_of(syst, || robot.inverse(p));
-        let _ = core::hint::black_box(r);
+        ik_ok += u32::from(r.is_ok());
         worst = worst.max(t - empty);
     }
-    hprintln!("empty {} ik_worst_ticks {}", empty, worst);
+    let mut fk_worst = 0;
+    let mut fk_ok = 0u32;
+    for i in 0..5 {
+        let j = core::hint::black_box([0.1 * i as f32, 0.3, 0.45]);
+        let (t, r) = ticks_of(syst, || robot.forward(j));
+        fk_ok += u32::from(r.is_ok());
+        fk_worst = fk_worst.max(t - empty);
+    }
+    let (nop_ticks, _) = ticks_of(syst, nops_1000);
+    hprintln!("empty {} ik_worst_ticks {} fk_worst_ticks {} nop1000_ticks {} ok {}/5 {}/5", empty, worst, fk_worst, nop_ticks - empty, ik_ok, fk_ok);
     debug::exit(debug::EXIT_SUCCESS);
     loop {}
 }
