@@ -590,7 +590,9 @@ mod tests {
                 worst = worst.max(atan2_err(y, x));
             }
         }
-        for (y, x) in [(f32::MAX, f32::MAX), (f32::MAX, -f32::MAX), (f32::MAX, 1.0), (1e-45, f32::MAX), (-1e-45, -1e-45)] {
+        for (y, x) in
+            [(f32::MAX, f32::MAX), (f32::MAX, -f32::MAX), (f32::MAX, 1.0), (1e-45, f32::MAX), (-1e-45, -1e-45)]
+        {
             worst = worst.max(atan2_err(y, x));
         }
         assert!(worst <= f64::from(ATAN2_F32_MAX_ABS_ERROR), "worst {worst:e}");
