@@ -497,15 +497,13 @@ mod tests {
 
     #[test]
     fn atan2_angle_splits() {
-        // Reference: pi to 20 digits (from memory: 3.14159265358979323846),
-        // checked against the f64 constant. Each HI + LO must carry k pi/4
-        // to far beyond f32 precision: LO, itself rounded to 24 bits, leaves
-        // at most 2^-25 |LO| < 4e-15 (and the f64 sum adds below 5e-16).
-        const PI_20: f64 = 3.141_592_653_589_793_238_46;
-        assert_eq!(PI_20, core::f64::consts::PI);
+        // Each HI + LO must carry k pi/4 to far beyond f32 precision: LO,
+        // itself rounded to 24 bits, leaves at most 2^-25 |LO| < 4e-15.
+        // The f64 reference (pi within 1.3e-16) and sum add below 1e-15.
+        const PI_F64: f64 = core::f64::consts::PI;
         let pairs = [(PIO4_HI, PIO4_LO), (PIO2_HI, PIO2_LO), (PI3O4_HI, PI3O4_LO), (PI_HI, PI_LO)];
         for (k, (hi, lo)) in pairs.into_iter().enumerate() {
-            let want = (k as f64 + 1.0) * PI_20 / 4.0;
+            let want = (k as f64 + 1.0) * PI_F64 / 4.0;
             assert_eq!(f64::from(hi), f64::from(want as f32), "hi is k pi/4 rounded");
             assert!((f64::from(hi) + f64::from(lo) - want).abs() < 4e-15, "k = {}", k + 1);
         }
