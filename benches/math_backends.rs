@@ -1,7 +1,7 @@
 //! Speed of three f32 math backends for the functions deltakin's solvers
 //! need: `micromath` (fast approximations), `libm` (the Rust port of MUSL)
-//! and deltakin's own kernels (`deltakin::scalar::{sqrt_f32, sin_cos_f32}`;
-//! for atan2 deltakin uses libm's `atan2f`, so that row is libm).
+//! and deltakin's own kernels (`deltakin::scalar::{sqrt_f32, atan2_f32,
+//! sin_cos_f32}`).
 //!
 //! Their accuracy is measured and asserted by
 //! `host-tests/tests/math_backends.rs`. On the host these timings show
@@ -19,7 +19,7 @@ use std::hint::black_box;
 use std::time::Duration;
 
 use criterion::{BenchmarkGroup, Criterion, Throughput, criterion_group, criterion_main, measurement::WallTime};
-use deltakin::scalar::{sin_cos_f32, sqrt_f32};
+use deltakin::scalar::{atan2_f32, sin_cos_f32, sqrt_f32};
 use micromath::F32Ext;
 
 /// Inputs per iteration.
@@ -76,6 +76,7 @@ fn backends(c: &mut Criterion) {
     group.throughput(Throughput::Elements(n));
     each(&mut group, "micromath", &yx, |(y, x)| F32Ext::atan2(y, x));
     each(&mut group, "libm_atan2f", &yx, |(y, x)| libm::atan2f(y, x));
+    each(&mut group, "deltakin_atan2_f32", &yx, |(y, x)| atan2_f32(y, x));
     group.finish();
 
     let angles = angle_inputs();

@@ -54,11 +54,11 @@ fn sub<S: Real>(u: [S; 3], v: [S; 3]) -> [S; 3] {
     [ux - vx, uy - vy, uz - vz]
 }
 
-/// Sphere centre of arm `arm`: its elbow shifted inwards by the platform
-/// radius, in lower-arm units and the base frame.
+/// Sphere centre of an arm at azimuth `phi` (`c`, `s` its cosine and
+/// sine): its elbow shifted inwards by the platform radius, in lower-arm
+/// units and the base frame.
 #[inline]
-fn centre<S: Real>(robot: &Robot<S>, arm: usize, sin: S, cos: S) -> [S; 3] {
-    let (c, s) = robot.arms.get(arm).map_or((S::ONE, S::ZERO), |k| (k.cos_phi, k.sin_phi));
+fn centre<S: Real>(robot: &Robot<S>, (c, s): (S, S), sin: S, cos: S) -> [S; 3] {
     let radial = robot.d + robot.a * cos;
     [c * radial, s * radial, -(robot.a * sin)]
 }
@@ -71,11 +71,15 @@ fn centre<S: Real>(robot: &Robot<S>, arm: usize, sin: S, cos: S) -> [S; 3] {
 /// [`Error::NearParallelSingularity`] when the centres are collinear (the
 /// intersection is then a circle or nothing), or so nearly collinear that
 /// the result leaves the number type's range.
+#[inline]
 pub(crate) fn solve<S: Real>(robot: &Robot<S>, trig: [(S, S); 3]) -> Result<[S; 3], Error> {
     let [(s0, c0), (s1, c1), (s2, c2)] = trig;
-    let p0 = centre(robot, 0, s0, c0);
-    let u = sub(centre(robot, 1, s1, c1), p0);
-    let v = sub(centre(robot, 2, s2, c2), p0);
+    let [_, k1, k2] = &robot.arms;
+    // Arm 0 lies on the x axis (azimuth 0, see `Robot::new`).
+    let radial0 = robot.d + robot.a * c0;
+    let p0 = [radial0, S::ZERO, -(robot.a * s0)];
+    let u = sub(centre(robot, (k1.cos_phi, k1.sin_phi), s1, c1), p0);
+    let v = sub(centre(robot, (k2.cos_phi, k2.sin_phi), s2, c2), p0);
     let n = cross(u, v);
     let n2 = dot(n, n);
     let inv_2n2 = S::ONE.checked_div(S::TWO * n2).ok_or(Error::NearParallelSingularity)?;

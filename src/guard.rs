@@ -11,6 +11,7 @@ use crate::solution::Solution;
 ///
 /// # Errors
 /// [`Error::JointLimit`] for the first arm out of range.
+#[inline]
 pub(crate) fn check_joints<S: Real>(robot: &Robot<S>, joints: [S; 3]) -> Result<(), Error> {
     let limits = robot.limits();
     for (arm, (&t, (&lo, &hi))) in joints.iter().zip(limits.joint_min.iter().zip(limits.joint_max.iter())).enumerate() {
@@ -26,16 +27,17 @@ pub(crate) fn check_joints<S: Real>(robot: &Robot<S>, joints: [S; 3]) -> Result<
     Ok(())
 }
 
-/// Checks a solution against every limit, in this order: joint ranges,
-/// serial margins (which also refuse the elbow-in branch, whose margin is
+/// Checks a solution against every limit but the joint ranges (see
+/// [`check_joints`], which callers run first), in this order: serial
+/// margins (which also refuse the elbow-in branch, whose margin is
 /// negative), parallel margin, passive-joint cones (elbow before platform).
 /// The first violation is reported.
 ///
 /// # Errors
-/// [`Error::JointLimit`], [`Error::PassiveLimit`],
-/// [`Error::NearSerialSingularity`] or [`Error::NearParallelSingularity`].
-pub(crate) fn check<S: Real>(robot: &Robot<S>, solution: &Solution<S>) -> Result<(), Error> {
-    check_joints(robot, solution.joints)?;
+/// [`Error::PassiveLimit`], [`Error::NearSerialSingularity`] or
+/// [`Error::NearParallelSingularity`].
+#[inline]
+pub(crate) fn check_margins<S: Real>(robot: &Robot<S>, solution: &Solution<S>) -> Result<(), Error> {
     let m = &solution.margins;
     let min_serial = robot.limits().min_serial_margin;
     for (arm, &margin) in m.serial.iter().enumerate() {

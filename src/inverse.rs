@@ -25,10 +25,22 @@
 //!
 //! and the conventions' elbow-out branch (the larger `cos t`) is the one
 //! with `+|B| w` in the cosine. The angle is `atan2` of the two numerators,
-//! so no division is needed for it; the guard divides once by `rho^2` to
-//! get the elbow's sine and cosine without calling `sin_cos`.
+//! so no division is needed for it; one division by `rho^2` gives the
+//! elbow's sine and cosine without calling `sin_cos`.
 //!
-//! Cost per arm: one square root, one `atan2`, one division and about 25
+//! The same two numerators give the serial margin for free. The margin is
+//! `s . dE/dt / a` with `s` the unit rod, i.e. `sin t X + cos t z` (the
+//! upper-arm terms cancel), and substituting the solution,
+//! `rho^2 (sin t X + cos t z) = -A sin_num + B cos_num = sgn(B) w rho^2`:
+//! the margin is `w` itself, up to its sign convention. This is both
+//! cheaper and more accurate than recomputing it from the rounded sine and
+//! cosine.
+//!
+//! The three arms sit at the conventions' azimuths 0, 120 and 240 degrees
+//! (set by `Robot::new`), so arm 0's plane is the xz plane and arms 1 and
+//! 2 are mirror images: their plane coordinates share four products.
+//!
+//! Cost per arm: one square root, one `atan2`, one division and about 20
 //! multiplications and additions. No iteration.
 
 use crate::error::Error;
@@ -46,16 +58,23 @@ pub(crate) struct ArmState<S> {
     /// Lower-arm vector from elbow to platform joint (unit length up to
     /// rounding), in the arm's plane frame.
     pub(crate) rod: [S; 3],
+    /// `rod . (sin t, 0, cos t)`: the rod's component along the elbow's
+    /// direction of travel (up to the factor `-a`), whose magnitude is the
+    /// serial margin.
+    pub(crate) along: S,
 }
 
-/// The platform centre `p` (lower-arm units, base frame) seen from arm
-/// `arm`: `(X, y', z)` with `X` measured from the point where the platform
-/// joint sits when the elbow is on the actuator axis.
+/// The platform centre `p` (lower-arm units, base frame) seen from each
+/// arm: `(X, y', z)` with `X` measured from the point where the platform
+/// joint sits when the elbow is on the actuator axis. Arm 0 lies on the x
+/// axis; arms 1 and 2 at +-120 degrees share their products.
 #[inline]
-pub(crate) fn arm_plane_point<S: Real>(robot: &Robot<S>, arm: usize, p: [S; 3]) -> [S; 3] {
-    let (c, s) = robot.arms.get(arm).map_or((S::ONE, S::ZERO), |k| (k.cos_phi, k.sin_phi));
+pub(crate) fn arm_plane_points<S: Real>(robot: &Robot<S>, p: [S; 3]) -> [[S; 3]; 3] {
+    let [_, k1, _] = &robot.arms;
+    let (c, s) = (k1.cos_phi, k1.sin_phi);
     let [x, y, z] = p;
-    [c * x + s * y - robot.d, c * y - s * x, z]
+    let (cx, cy, sx, sy) = (c * x, c * y, s * x, s * y);
+    [[x - robot.d, y, z], [cx + sy - robot.d, cy - sx, z], [cx - sy - robot.d, cy + sx, z]]
 }
 
 /// Rod vector (elbow to platform joint) in the arm's plane frame, from the
@@ -66,17 +85,16 @@ pub(crate) fn rod_vector<S: Real>(robot: &Robot<S>, q: [S; 3], sin: S, cos: S) -
     [x - robot.a * cos, y, z + robot.a * sin]
 }
 
-/// Solves one arm, elbow-out branch. `p` is the platform centre in
-/// lower-arm units.
+/// Solves one arm, elbow-out branch. `q` is the platform centre seen from
+/// the arm (see [`arm_plane_points`]), `arm` its number for the error.
 ///
 /// # Errors
 /// [`Error::Unreachable`] naming the arm when the closure has no real
 /// solution, or when the platform joint sits on the actuator axis itself
 /// (`rho = 0`), where the angle is undefined.
-pub(crate) fn solve_arm<S: Real>(robot: &Robot<S>, arm: usize, p: [S; 3]) -> Result<ArmState<S>, Error> {
-    #[allow(clippy::cast_possible_truncation)] // arm < 3
-    let unreachable = Error::Unreachable { arm: arm as u8 };
-    let q = arm_plane_point(robot, arm, p);
+#[inline(always)]
+fn solve_arm<S: Real>(robot: &Robot<S>, arm: u8, q: [S; 3]) -> Result<ArmState<S>, Error> {
+    let unreachable = Error::Unreachable { arm };
     let [x, y, z] = q;
     let k = (robot.one_minus_a2 - x * x - y * y - z * z) * robot.inv_two_a;
     let (ca, cb) = (-x, z);
@@ -92,13 +110,15 @@ pub(crate) fn solve_arm<S: Real>(robot: &Robot<S>, arm: usize, p: [S; 3]) -> Res
     let sin_num = cb * k - sgn_b_w * ca;
     let inv_rho2 = S::ONE.checked_div(rho2).ok_or(unreachable)?;
     let (sin, cos) = (sin_num * inv_rho2, cos_num * inv_rho2);
-    Ok(ArmState { theta: sin_num.atan2(cos_num), sin, cos, rod: rod_vector(robot, q, sin, cos) })
+    Ok(ArmState { theta: sin_num.atan2(cos_num), sin, cos, rod: rod_vector(robot, q, sin, cos), along: sgn_b_w })
 }
 
 /// Solves all three arms for the platform centre `p` (lower-arm units).
 ///
 /// # Errors
 /// The first arm's [`Error::Unreachable`], arms taken in order 0, 1, 2.
+#[inline]
 pub(crate) fn solve_arms<S: Real>(robot: &Robot<S>, p: [S; 3]) -> Result<[ArmState<S>; 3], Error> {
-    Ok([solve_arm(robot, 0, p)?, solve_arm(robot, 1, p)?, solve_arm(robot, 2, p)?])
+    let [q0, q1, q2] = arm_plane_points(robot, p);
+    Ok([solve_arm(robot, 0, q0)?, solve_arm(robot, 1, q1)?, solve_arm(robot, 2, q2)?])
 }

@@ -79,11 +79,15 @@ pub(crate) struct ArmConstants<S> {
     pub(crate) cos_phi: S,
     pub(crate) sin_phi: S,
     /// Neutral axis of the elbow joint, a unit vector in the upper arm's
-    /// own frame (x along the upper arm, y along the actuator axis).
-    pub(crate) elbow_axis: [S; 3],
+    /// own frame (x along the upper arm, y along the actuator axis, z the
+    /// third axis): its x and z components. Its y component is zero, as
+    /// the neutral pose has the platform on the z axis, in every arm's
+    /// vertical plane.
+    pub(crate) elbow_axis: [S; 2],
     /// Neutral axis of the platform joint, a unit vector in the arm's
-    /// vertical plane frame (x radial, y tangential, z up).
-    pub(crate) platform_axis: [S; 3],
+    /// vertical plane frame (x radial, y tangential, z up): its x and z
+    /// components (y is zero, as for the elbow).
+    pub(crate) platform_axis: [S; 2],
 }
 
 /// A validated rotary delta robot, ready for the solvers.
@@ -226,7 +230,7 @@ impl<S: Real> Robot<S> {
         let half_sqrt3 = constant::<S>(0.866_025_403_784_438_6).map_err(geo_fault)?;
         let azimuths = [(S::ONE, S::ZERO), (-S::HALF, half_sqrt3), (-S::HALF, -half_sqrt3)];
         let mut arms =
-            [ArmConstants { cos_phi: S::ONE, sin_phi: S::ZERO, elbow_axis: [S::ZERO; 3], platform_axis: [S::ZERO; 3] };
+            [ArmConstants { cos_phi: S::ONE, sin_phi: S::ZERO, elbow_axis: [S::ZERO; 2], platform_axis: [S::ZERO; 2] };
                 3];
         for ((arm, &(cos_phi, sin_phi)), (&lo, &hi)) in
             arms.iter_mut().zip(azimuths.iter()).zip(limits.joint_min.iter().zip(limits.joint_max.iter()))
@@ -238,12 +242,15 @@ impl<S: Real> Robot<S> {
             if !(drop2 > S::ZERO) {
                 return Err(Error::InvalidLimits(ConfigFault::NeutralPose));
             }
-            // Rod direction, elbow towards platform, in the arm's plane.
-            let w = [-gap, S::ZERO, -drop2.sqrt()];
+            // Rod direction, elbow towards platform, in the arm's plane
+            // (its y component is zero: the platform is on the z axis).
+            let down = -drop2.sqrt();
+            let w = [-gap, S::ZERO, down];
             arm.cos_phi = cos_phi;
             arm.sin_phi = sin_phi;
-            arm.platform_axis = w;
-            arm.elbow_axis = to_upper_arm_frame(w, sm, cm);
+            arm.platform_axis = [-gap, down];
+            let [ex, _, ez] = to_upper_arm_frame(w, sm, cm);
+            arm.elbow_axis = [ex, ez];
         }
         Ok(Self {
             geometry,

@@ -2,10 +2,9 @@
 //! singularity margins, the passive-joint tilts and the Jacobian, all
 //! computed from the same three closed loops.
 
-use crate::forward::dot;
 use crate::inverse::ArmState;
 use crate::jacobian::Jacobian;
-use crate::robot::{Robot, to_upper_arm_frame};
+use crate::robot::{ArmConstants, Robot};
 use crate::scalar::{Arith, Real};
 
 /// How far a pose is from trouble. See [`crate::jacobian`] for the margin
@@ -46,34 +45,52 @@ pub struct Solution<S: Arith> {
 impl<S: Real> Solution<S> {
     /// Assembles a solution from the three arm loops. `position_mm` is the
     /// platform centre in millimetres.
+    #[inline]
     pub(crate) fn assemble(robot: &Robot<S>, position_mm: [S::Wide; 3], arms: [ArmState<S>; 3]) -> Self {
-        let mut rods = [[S::ZERO; 3]; 3];
-        let mut rates = [S::ZERO; 3];
-        let mut serial = [S::ZERO; 3];
-        let mut tilt = [[S::ONE; 2]; 3];
         let [_, _, z] = position_mm;
         let above = z > S::Wide::ZERO;
-        let parts = rods.iter_mut().zip(rates.iter_mut()).zip(serial.iter_mut()).zip(tilt.iter_mut());
-        for ((((rod_w, rate), margin), tilt), (state, k)) in parts.zip(arms.iter().zip(robot.arms.iter())) {
-            let [rx, ry, rz] = state.rod;
-            // Rod in the base frame: rotate the arm-plane vector by phi.
-            *rod_w = [k.cos_phi * rx - k.sin_phi * ry, k.sin_phi * rx + k.cos_phi * ry, rz];
-            // dE/dt = a (-sin t, 0, -cos t) in the arm plane.
-            let along = state.sin * rx + state.cos * rz;
-            *rate = -(robot.a * along);
-            // Signed so that the conventions' branch is positive: on the
-            // elbow-out branch `along` is negative below the actuator plane
-            // and positive above it (see `Margins::serial`).
-            *margin = if above { along } else { -along };
-            let elbow_local = to_upper_arm_frame(state.rod, state.sin, state.cos);
-            *tilt = [dot(elbow_local, k.elbow_axis), dot(state.rod, k.platform_axis)];
-        }
-        let jacobian = Jacobian::new(rods, rates, robot.scale);
+        let [k0, k1, k2] = &robot.arms;
+        let [s0, s1, s2] = &arms;
+        // Rods in the base frame: arm 0's plane is the xz plane; arms 1
+        // and 2 turn by their azimuths.
+        let rods = [s0.rod, rotate(k1, s1.rod), rotate(k2, s2.rod)];
+        let parts = [part(robot, k0, s0, above), part(robot, k1, s1, above), part(robot, k2, s2, above)];
+        let jacobian = Jacobian::new(rods, parts.map(|(rate, _, _)| rate), robot.scale);
         Self {
-            joints: arms.map(|s| s.theta),
+            joints: [s0.theta, s1.theta, s2.theta],
             position: position_mm,
-            margins: Margins { serial, parallel: jacobian.parallel_margin(), passive_tilt_cos: tilt },
+            margins: Margins {
+                serial: parts.map(|(_, margin, _)| margin),
+                parallel: jacobian.parallel_margin(),
+                passive_tilt_cos: parts.map(|(_, _, tilt)| tilt),
+            },
             jacobian,
         }
     }
+}
+
+/// An arm-plane vector in the base frame: turned by the arm's azimuth.
+#[inline]
+fn rotate<S: Real>(k: &ArmConstants<S>, v: [S; 3]) -> [S; 3] {
+    let [x, y, z] = v;
+    [k.cos_phi * x - k.sin_phi * y, k.sin_phi * x + k.cos_phi * y, z]
+}
+
+/// One arm's Jacobian rate `b_i`, serial margin and passive-joint tilt
+/// cosines `[elbow, platform]`.
+#[inline]
+fn part<S: Real>(robot: &Robot<S>, k: &ArmConstants<S>, state: &ArmState<S>, above: bool) -> (S, S, [S; 2]) {
+    let [rx, _, rz] = state.rod;
+    // dE/dt = a (-sin t, 0, -cos t) in the arm plane, so b = -a along.
+    let rate = -(robot.a * state.along);
+    // Signed so that the conventions' branch is positive: on the
+    // elbow-out branch `along` is negative below the actuator plane and
+    // positive above it (see `Margins::serial`).
+    let margin = if above { state.along } else { -state.along };
+    // The rod in the upper arm's frame is (cos t rx - sin t rz, ry,
+    // along); both neutral axes have no y component.
+    let [ex, ez] = k.elbow_axis;
+    let [px, pz] = k.platform_axis;
+    let elbow = ex * (state.cos * rx - state.sin * rz) + ez * state.along;
+    (rate, margin, [elbow, px * rx + pz * rz])
 }

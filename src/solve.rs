@@ -29,7 +29,8 @@ impl<S: Real> Robot<S> {
     #[cfg_attr(feature = "no-panic", no_panic::no_panic)]
     pub fn inverse(&self, target: [S::Wide; 3]) -> Result<Solution<S>, Error> {
         let solution = self.inverse_unguarded(target)?;
-        guard::check(self, &solution)?;
+        guard::check_joints(self, solution.joints)?;
+        guard::check_margins(self, &solution)?;
         Ok(solution)
     }
 
@@ -47,8 +48,10 @@ impl<S: Real> Robot<S> {
     pub fn forward(&self, joints: [S; 3]) -> Result<Solution<S>, Error> {
         check_finite(joints, Input::JointAngles)?;
         guard::check_joints(self, joints)?;
-        let solution = self.forward_unguarded(joints)?;
-        guard::check(self, &solution)?;
+        // The joint ranges lie inside (-pi, pi) (see `Limits::validate`),
+        // so the unguarded twin's one-turn check cannot fail here.
+        let solution = self.forward_solve(joints)?;
+        guard::check_margins(self, &solution)?;
         Ok(solution)
     }
 
@@ -97,15 +100,23 @@ impl<S: Real> Robot<S> {
                 return Err(Error::JointLimit { arm, bound: Bound::Min });
             }
         }
+        self.forward_solve(joints)
+    }
+
+    /// Forward kinematics for finite joint angles within one turn.
+    #[inline]
+    fn forward_solve(&self, joints: [S; 3]) -> Result<Solution<S>, Error> {
         let trig = joints.map(Real::sin_cos);
         let p = forward::solve(self, trig)?;
-        let state = |arm: usize, theta: S, (sin, cos): (S, S)| {
-            let q = inverse::arm_plane_point(self, arm, p);
-            ArmState { theta, sin, cos, rod: inverse::rod_vector(self, q, sin, cos) }
+        let state = |theta: S, (sin, cos): (S, S), q: [S; 3]| {
+            let rod = inverse::rod_vector(self, q, sin, cos);
+            let [rx, _, rz] = rod;
+            ArmState { theta, sin, cos, rod, along: sin * rx + cos * rz }
         };
         let [t0, t1, t2] = joints;
         let [g0, g1, g2] = trig;
-        let arms = [state(0, t0, g0), state(1, t1, g1), state(2, t2, g2)];
+        let [q0, q1, q2] = inverse::arm_plane_points(self, p);
+        let arms = [state(t0, g0, q0), state(t1, g1, q1), state(t2, g2, q2)];
         Ok(Solution::assemble(self, p.map(|v| v.mul_wide(self.scale)), arms))
     }
 }

@@ -6,8 +6,7 @@
 //!
 //! * `micromath` 2: fast approximations meant for small code;
 //! * `libm` (the Rust port of MUSL): `sqrtf`, `atan2f`, `sinf`/`cosf`;
-//! * deltakin's own kernels: `sqrt_f32` and `sin_cos_f32` (for atan2
-//!   deltakin calls libm's `atan2f`).
+//! * deltakin's own kernels: `sqrt_f32`, `atan2_f32` and `sin_cos_f32`.
 //!
 //! Why the solvers use libm and their own kernels, not micromath: f32
 //! carries a joint angle near 1 rad to about 6e-8 rad (half an ulp), and
@@ -30,7 +29,9 @@
 
 use std::f64::consts::{PI, TAU};
 
-use deltakin::scalar::{SIN_COS_F32_MAX_ABS_ERROR, SQRT_F32_MAX_REL_ERROR, sin_cos_f32, sqrt_f32};
+use deltakin::scalar::{
+    ATAN2_F32_MAX_ABS_ERROR, SIN_COS_F32_MAX_ABS_ERROR, SQRT_F32_MAX_REL_ERROR, atan2_f32, sin_cos_f32, sqrt_f32,
+};
 use deltakin_harness::bounds::F32_JOINT_ERR_RAD;
 use micromath::F32Ext;
 
@@ -83,6 +84,9 @@ const MICROMATH_ATAN2_ABS: (f64, f64) = (1e-3, 1e-2);
 /// 1.5 ulp near pi. Rounding the result alone costs up to half an ulp
 /// (1.2e-7 near pi), so a dense sample sees at least a third of that.
 const LIBM_ATAN2F_ABS: (f64, f64) = (4e-8, 3.6e-7);
+/// deltakin's `atan2_f32`: below its published bound (measured 1.81e-7);
+/// the lower bound is the same rounding floor as for libm.
+const OWN_ATAN2_ABS: (f64, f64) = (4e-8, ATAN2_F32_MAX_ABS_ERROR as f64);
 
 /// Largest absolute error of `f(y, x)` against f64 atan2, on `SAMPLES`
 /// angles around the full turn for each radius in `ATAN2_RADII`. The
@@ -151,11 +155,15 @@ fn sqrt_relative_error() {
 fn atan2_absolute_error() {
     let micromath = atan2_max_abs(F32Ext::atan2);
     let libm_f = atan2_max_abs(libm::atan2f);
+    let own = atan2_max_abs(atan2_f32);
     assert_between("atan2 micromath (rad)", micromath, MICROMATH_ATAN2_ABS);
     assert_between("atan2 libm atan2f (rad)", libm_f, LIBM_ATAN2F_ABS);
+    assert_between("atan2 deltakin atan2_f32 (rad)", own, OWN_ATAN2_ABS);
     // micromath alone would exceed the f32 joint-angle budget of the whole
-    // solver; libm leaves almost all of it to the rest of the algorithm.
+    // solver; libm and deltakin's kernel leave almost all of it to the
+    // rest of the algorithm.
     assert!(micromath > 10.0 * F32_JOINT_ERR_RAD && libm_f < 0.05 * F32_JOINT_ERR_RAD);
+    assert!(own < 0.05 * F32_JOINT_ERR_RAD);
 }
 
 #[test]

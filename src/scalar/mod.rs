@@ -36,8 +36,10 @@ mod float64;
 pub use cordic::{ATAN2_MAX_ERROR_LSB, SIN_COS_MAX_ERROR_LSB, SQRT_MAX_ERROR_LSB};
 pub use fixed::{Fixed, FixedRecip, FixedWide, MAX_COUNTS_PER_REV};
 
-pub use float32::{SIN_COS_F32_MAX_ABS_ERROR, SIN_COS_F32_VALID_RANGE, SQRT_F32_MAX_REL_ERROR};
-pub use float32::{sin_cos_f32, sqrt_f32};
+pub use float32::{
+    ATAN2_F32_MAX_ABS_ERROR, SIN_COS_F32_MAX_ABS_ERROR, SIN_COS_F32_VALID_RANGE, SQRT_F32_MAX_REL_ERROR,
+};
+pub use float32::{atan2_f32, sin_cos_f32, sqrt_f32};
 
 use core::fmt::Debug;
 use core::ops::{Add, Mul, Neg, Sub};
