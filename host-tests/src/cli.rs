@@ -150,11 +150,11 @@ pub struct ReportArgs {
           value_parser = clap::value_parser!(u16).range(4..=400))]
     pub fk_grid: u16,
     /// Gate file (TOML): limits over the defaults and the robot file's
-    /// [gates] table. Keys: [accuracy] f64|f32|fixed _joint_rad and
-    /// _position_mm; [host_timing] f32_inverse_median_ns,
-    /// f32_forward_median_ns, enforce; [targets] required, robot_bytes,
-    /// stack_bytes, fixed_over_soft_float, soft_float_targets and
-    /// [[targets.budget]] lists.
+    /// gates table. Tables and keys: accuracy (f64|f32|fixed _joint_rad
+    /// and _position_mm), host_timing (f32_inverse_median_ns,
+    /// f32_forward_median_ns, enforce), targets (required, robot_bytes,
+    /// stack_bytes, fixed_over_soft_float, soft_float_targets, and a list
+    /// of targets.budget tables). Example: ci/release-gates.toml.
     #[arg(long, value_name = "FILE")]
     pub gates: Option<PathBuf>,
     /// Target figures (JSON from ci/target-report.sh): instructions per
