@@ -65,5 +65,5 @@ mod stream;
 pub use check::{JointRateLimits, MAX_MOVE_CYCLES, MAX_TIME_STRETCH, TIME_SCALING_PASSES};
 pub use error::{MotionError, MotionFault, MoveFault};
 pub use law::{Bounds, Law, LawSample, Profile};
-pub use moves::{Move, PlannedMove, Setpoint};
+pub use moves::{COLLINEAR_TURN, MAX_CORNER_RADIUS, MIN_CORNER_RADIUS, Move, PlannedMove, Setpoint};
 pub use stream::{Accepted, Stream, StreamSetpoint};

@@ -6,7 +6,7 @@
 
 use super::error::{MotionError, MotionFault, MoveFault};
 use super::law::{Bounds, Law, Profile, Timing, constant, convert, div};
-use super::path::{Path, Pick, Target};
+use super::path::{Corner, Path, Pick, Target};
 use crate::error::Error;
 use crate::robot::Robot;
 use crate::scalar::{Arith, Real};
@@ -88,6 +88,11 @@ pub struct PlannedMove<S: Arith, P = S> {
     pub(crate) timing: Timing<S>,
     pub(crate) start: [S::Wide; 3],
     pub(crate) end: [S::Wide; 3],
+    /// Joint angles at the start (rad).
+    pub(crate) start_joints: [S; 3],
+    /// The line move this was planned from, when it is a single line
+    /// (the stream may join the next line to it, see [`super::Stream`]).
+    pub(crate) line: Option<Move<P>>,
     /// Joint angles at the end (rad).
     pub(crate) end_joints: [S; 3],
     pub(crate) period: P,
@@ -138,6 +143,13 @@ impl<S: Real, P: Real<Wide = P>> PlannedMove<S, P> {
     #[must_use]
     pub const fn stretch(&self) -> P {
         self.stretch
+    }
+
+    /// Whether this move is two line moves joined through their corner
+    /// (see [`super::Stream`]).
+    #[must_use]
+    pub const fn is_joined(&self) -> bool {
+        matches!(self.path, Path::Corner(_))
     }
 
     /// Whether the move was slowed down to respect a joint limit (time
@@ -290,4 +302,122 @@ pub(crate) fn shape<S: Real, P: Real<Wide = P>>(
             Ok(Shaped { path, profile, end: start })
         }
     }
+}
+
+/// Turn angles below this (rad) count as collinear: the two lines are
+/// joined without an arc (the direction steps by less than this, a
+/// velocity step below `1e-4` of the path speed, which the validation
+/// checks like any other).
+pub const COLLINEAR_TURN: f64 = 1e-4;
+
+/// Largest corner arc radius (mm): keeps the arc centre and the arc's
+/// points inside the fixed-point range; a smaller radius than the
+/// tolerance allows only lowers the corner's deviation.
+pub const MAX_CORNER_RADIUS: f64 = 2000.0;
+
+/// Smallest corner arc radius (mm): below it (a near reversal, or a very
+/// small tolerance) the pair is not joined and the platform stops.
+pub const MIN_CORNER_RADIUS: f64 = 1e-3;
+
+/// The bounds of a joined pair: the smaller of each.
+fn tighter<P: Real>(a: Bounds<P>, b: Bounds<P>) -> Bounds<P> {
+    Bounds { speed: a.speed.min_of(b.speed), accel: a.accel.min_of(b.accel), jerk: a.jerk.min_of(b.jerk) }
+}
+
+/// Joins two consecutive line moves, `first` from `start` and `second`
+/// from the end of `first`, into one path (line, tangent arc, line) under
+/// one time law, or `None` when they should not be joined.
+///
+/// The corner rule (see [`super::Stream`]): with turn angle `theta`
+/// between the two directions, the arc radius is the largest that keeps
+/// the arc within `tolerance` (mm) of the corner point,
+/// `r = tolerance cos(theta/2) / (1 - cos(theta/2))` (the corner-to-arc
+/// distance of a tangent arc is `r (1/cos(theta/2) - 1)`, plane
+/// geometry), reduced so that the arc takes at most half of either line
+/// (`r tan(theta/2) <= L/2`) and at most [`MAX_CORNER_RADIUS`]. The law's
+/// speed bound is lowered to `sqrt(a r)` so that the centripetal
+/// acceleration on the arc stays within the path acceleration bound `a`.
+/// The law and the bounds are those of `first`, each bound tightened to
+/// `second`'s when smaller. The pair is joined only when the joined law
+/// is shorter than the two laws run one after the other; otherwise (a
+/// sharp corner, where the arc speed would be low; a reversal; an arc
+/// below [`MIN_CORNER_RADIUS`]) it returns `None`.
+///
+/// # Errors
+/// The errors of [`shape`] for either line, or
+/// [`MotionFault::Unrepresentable`].
+pub(crate) fn shape_corner<S: Real, P: Real<Wide = P>>(
+    first: &Move<P>,
+    second: &Move<P>,
+    start: [S::Wide; 3],
+    tolerance: P,
+) -> Result<Option<Shaped<S, P>>, MotionError> {
+    let (Move::Line { to: mid, law, bounds: bounds1 }, Move::Line { to: end, law: law2, bounds: bounds2 }) =
+        (*first, *second)
+    else {
+        return Ok(None);
+    };
+    let from: [P; 3] = convert3(start)?;
+    let (mid, end) = (finite3(mid)?, finite3(end)?);
+    let a = [mid[0] - from[0], mid[1] - from[1], mid[2] - from[2]];
+    let b = [end[0] - mid[0], end[1] - mid[1], end[2] - mid[2]];
+    let (l1, l2) = (norm3(a), norm3(b));
+    if !(l1 > P::ZERO && l2 > P::ZERO) {
+        return Err(MotionError::invalid(MoveFault::ZeroLength));
+    }
+    let (i1, i2) = (div(P::ONE, l1)?, div(P::ONE, l2)?);
+    let d1 = a.map(|c| c * i1);
+    let d2 = b.map(|c| c * i2);
+    let cos = (d1[0] * d2[0] + d1[1] * d2[1] + d1[2] * d2[2]).max_of(-P::ONE).min_of(P::ONE);
+    // The part of d2 across d1; its length is sin(theta).
+    let across = [d2[0] - cos * d1[0], d2[1] - cos * d1[1], d2[2] - cos * d1[2]];
+    let sin = norm3(across);
+    let theta = sin.atan2(cos);
+    let bounds = tighter(bounds1, bounds2);
+    let (length, arc) = if theta < constant::<P>(COLLINEAR_TURN)? {
+        (l1 + l2, None)
+    } else {
+        let half_cos = ((P::ONE + cos) * P::HALF).sqrt();
+        let tan_half = div(sin, P::ONE + cos)?;
+        let by_tolerance = div(tolerance * half_cos, P::ONE - half_cos)?;
+        let by_length = div(l1.min_of(l2) * P::HALF, tan_half)?;
+        let r = by_tolerance.min_of(by_length).min_of(constant::<P>(MAX_CORNER_RADIUS)?);
+        if !(r >= constant::<P>(MIN_CORNER_RADIUS)?) {
+            return Ok(None);
+        }
+        let e = r * tan_half;
+        let inv_sin = div(P::ONE, sin)?;
+        let n = across.map(|c| c * inv_sin);
+        (l1 + l2 - P::TWO * e + r * theta, Some((r, e, n)))
+    };
+    let bounds = match arc {
+        Some((r, _, _)) => Bounds { speed: bounds.speed.min_of((bounds.accel * r).sqrt()), ..bounds },
+        None => bounds,
+    };
+    let profile = Profile::plan(law, length, bounds)?;
+    let apart = Profile::plan(law, l1, bounds1)?.duration() + Profile::plan(law2, l2, bounds2)?.duration();
+    if !(profile.duration() < apart) {
+        return Ok(None);
+    }
+    let (r, e, n) = arc.unwrap_or((P::ONE, P::ZERO, [P::ZERO; 3]));
+    let b1 = l1 - e;
+    let b2 = if arc.is_some() { b1 + r * theta } else { b1 };
+    let t1 = [mid[0] - e * d1[0], mid[1] - e * d1[1], mid[2] - e * d1[2]];
+    let centre = [t1[0] + r * n[0], t1[1] + r * n[1], t1[2] + r * n[2]];
+    let r_s: S::Wide = convert(r)?;
+    let to: [S::Wide; 3] = convert3(end)?;
+    let corner = Corner {
+        from: start,
+        to,
+        d1: convert3(d1)?,
+        d2: convert3(d2)?,
+        n: convert3(n)?,
+        centre: convert3(centre)?,
+        r: r_s,
+        inv_r: S::recip(r_s).ok_or(MotionError::before_sampling(MotionFault::Unrepresentable))?,
+        b1: convert(b1)?,
+        b2: convert(b2)?,
+        length: convert(length)?,
+    };
+    Ok(Some(Shaped { path: Path::Corner(corner), profile, end: to }))
 }

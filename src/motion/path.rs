@@ -10,6 +10,10 @@
 //!   time law is the platform speed and the velocity never jumps (the
 //!   centripetal acceleration `v^2 / r` appears where an arc begins and
 //!   ends; the validation checks what it does to the joints).
+//! * Corner: two straight lines joined by a tangent circular arc, for two
+//!   consecutive line moves the stream joins into one (see
+//!   [`super::Stream`]). Parameterised by arc length like the pick cycle;
+//!   a collinear pair has no arc.
 //! * Hold: stay at one point (a dwell).
 //! * Joint-space straight line: all joints move together from start to
 //!   target angles, the one with the largest travel following the time law
@@ -35,6 +39,8 @@ pub(crate) enum Path<S: Arith> {
     Line { to: [S::Wide; 3], dir: [S; 3], length: S::Wide },
     /// See [`Pick`].
     Pick(Pick<S>),
+    /// See [`Corner`].
+    Corner(Corner<S>),
     /// Stay at `at`.
     Hold { at: [S::Wide; 3] },
     /// Joint angles `to - dir (L - s)`, `dir` the joint travel divided by
@@ -58,6 +64,49 @@ pub(crate) struct Pick<S: Arith> {
     pub(crate) inv_r: S::Recip,
     pub(crate) b: [S::Wide; 4],
     pub(crate) length: S::Wide,
+}
+
+/// Two lines joined by a tangent arc. The first line runs from `from`
+/// along `d1` up to arc length `b1`; the arc of radius `r` about `centre`
+/// turns the tangent from `d1` to `d2` in the plane of the two (with `n`
+/// the unit normal towards the turn, the point at angle `phi` is
+/// `centre + r (sin phi d1 - cos phi n)`) until `b2`; the second line
+/// runs along `d2` and ends at `to` at `length`. A collinear pair has
+/// `b1 = b2` and no arc.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub(crate) struct Corner<S: Arith> {
+    pub(crate) from: [S::Wide; 3],
+    pub(crate) to: [S::Wide; 3],
+    pub(crate) d1: [S; 3],
+    pub(crate) d2: [S; 3],
+    pub(crate) n: [S; 3],
+    pub(crate) centre: [S::Wide; 3],
+    pub(crate) r: S::Wide,
+    /// `1 / r`, for the arc angle `(s - b1) / r` without a division.
+    pub(crate) inv_r: S::Recip,
+    pub(crate) b1: S::Wide,
+    pub(crate) b2: S::Wide,
+    pub(crate) length: S::Wide,
+}
+
+impl<S: Real> Corner<S> {
+    /// The point at arc length `s` (mm) and the unit tangent there.
+    fn at(&self, s: S::Wide) -> ([S::Wide; 3], [S; 3]) {
+        if s < self.b1 {
+            let f = self.from;
+            let d = self.d1;
+            return ([f[0] + d[0].mul_wide(s), f[1] + d[1].mul_wide(s), f[2] + d[2].mul_wide(s)], d);
+        }
+        if s < self.b2 {
+            let (sin, cos) = S::mul_recip(s - self.b1, self.inv_r).sin_cos();
+            let (c, d, n) = (self.centre, self.d1, self.n);
+            let p = |i: usize| c[i] + (sin * d[i] - cos * n[i]).mul_wide(self.r);
+            return ([p(0), p(1), p(2)], [sin * n[0] + cos * d[0], sin * n[1] + cos * d[1], sin * n[2] + cos * d[2]]);
+        }
+        let back = self.length - s;
+        let (t, d) = (self.to, self.d2);
+        ([t[0] - d[0].mul_wide(back), t[1] - d[1].mul_wide(back), t[2] - d[2].mul_wide(back)], d)
+    }
 }
 
 /// Where a path puts the robot at one instant.
@@ -133,6 +182,10 @@ impl<S: Real> Path<S> {
             }
             Path::Pick(p) => {
                 let (point, tangent) = p.at(sigma.mul_wide(p.length));
+                Target::Cartesian { point, velocity: scale3(tangent, speed) }
+            }
+            Path::Corner(c) => {
+                let (point, tangent) = c.at(sigma.mul_wide(c.length));
                 Target::Cartesian { point, velocity: scale3(tangent, speed) }
             }
             Path::Hold { at } => Target::Cartesian { point: *at, velocity: [S::Wide::ZERO; 3] },
