@@ -376,6 +376,9 @@ pub(crate) fn shape_corner<S: Real, P: Real<Wide = P>>(
     let bounds = tighter(bounds1, bounds2);
     let (length, arc) = if theta < constant::<P>(COLLINEAR_TURN)? {
         (l1 + l2, None)
+    } else if !(P::ONE + cos > P::ZERO) {
+        // A reversal: no arc fits.
+        return Ok(None);
     } else {
         let half_cos = ((P::ONE + cos) * P::HALF).sqrt();
         let tan_half = div(sin, P::ONE + cos)?;

@@ -99,9 +99,14 @@ impl<S: Real> Corner<S> {
         }
         if s < self.b2 {
             let (sin, cos) = S::mul_recip(s - self.b1, self.inv_r).sin_cos();
-            let (c, d, n) = (self.centre, self.d1, self.n);
-            let p = |i: usize| c[i] + (sin * d[i] - cos * n[i]).mul_wide(self.r);
-            return ([p(0), p(1), p(2)], [sin * n[0] + cos * d[0], sin * n[1] + cos * d[1], sin * n[2] + cos * d[2]]);
+            let ([c0, c1, c2], [d0, d1, d2], [n0, n1, n2]) = (self.centre, self.d1, self.n);
+            let r = self.r;
+            let point = [
+                c0 + (sin * d0 - cos * n0).mul_wide(r),
+                c1 + (sin * d1 - cos * n1).mul_wide(r),
+                c2 + (sin * d2 - cos * n2).mul_wide(r),
+            ];
+            return (point, [sin * n0 + cos * d0, sin * n1 + cos * d1, sin * n2 + cos * d2]);
         }
         let back = self.length - s;
         let (t, d) = (self.to, self.d2);
@@ -197,7 +202,7 @@ impl<S: Real> Path<S> {
 mod tests {
     use super::*;
     use crate::motion::law::{Bounds, Law};
-    use crate::motion::moves::{Move, shape};
+    use crate::motion::moves::{Move, shape, shape_corner};
 
     /// Position and tangent gaps allowed across a break point (mm, unit).
     const JOIN_MM: f64 = 1e-9;
@@ -242,5 +247,52 @@ mod tests {
             let mv = Move::Pick { to, lift, blend_radius: r, law: Law::Trapezoid, bounds };
             assert!(shape::<f64, f64>(&mv, from, [0.0; 3]).is_err());
         }
+    }
+
+    /// Relative error allowed on the corner's closed-form figures (f64).
+    const CORNER_REL: f64 = 1e-9;
+
+    #[test]
+    fn corner_arc_is_tangent_continuous_within_tolerance_and_caps_the_speed() {
+        // A 20 degree turn: r = tol cos 10deg / (1 - cos 10deg) = 64.83 mm
+        // for tol = 1 mm, so the speed bound drops to sqrt(a r) = 805 mm/s.
+        let (tol, a) = (1.0_f64, 10_000.0);
+        let bounds = Bounds { speed: 1000.0, accel: a, jerk: 1.0e6 };
+        let from = [0.0, 0.0, -700.0];
+        let mid = [100.0, 0.0, -700.0];
+        let turn = 20.0_f64.to_radians();
+        let to = [mid[0] + 100.0 * turn.cos(), 100.0 * turn.sin(), -700.0];
+        let first = Move::Line { to: mid, law: Law::SCurve, bounds };
+        let second = Move::Line { to, law: Law::SCurve, bounds };
+        let shaped = shape_corner::<f64, f64>(&first, &second, from, tol).unwrap().expect("joined");
+        let Path::Corner(c) = shaped.path else { unreachable!("a joined pair is a corner path") };
+        let half = (turn / 2.0).cos();
+        let r = tol * half / (1.0 - half);
+        assert!((c.r / r - 1.0).abs() < CORNER_REL, "radius {}", c.r);
+        assert_eq!(c.at(0.0).0, from);
+        assert_eq!(c.at(c.length).0, to);
+        for b in [c.b1, c.b2] {
+            let (l, rr) = (c.at(b - EPS_S), c.at(b + EPS_S));
+            for i in 0..3 {
+                assert!((l.0[i] - rr.0[i]).abs() < JOIN_MM, "point at {b}");
+                assert!((l.1[i] - rr.1[i]).abs() < JOIN_TANGENT, "tangent at {b}");
+            }
+        }
+        // The arc's midpoint is the closest point to the corner: tol away.
+        let m = c.at(0.5 * (c.b1 + c.b2)).0;
+        let gap = ((m[0] - mid[0]).powi(2) + (m[1] - mid[1]).powi(2) + (m[2] - mid[2]).powi(2)).sqrt();
+        assert!((gap - tol).abs() < CORNER_REL * tol, "gap {gap}");
+        // Speed capped for the centripetal acceleration: v^2 / r = a.
+        let peak = shaped.profile.sample(0.5 * shaped.profile.duration()).vel;
+        assert!((peak / (a * r).sqrt() - 1.0).abs() < CORNER_REL, "peak speed {peak}");
+        // The same corner with long legs would be slower joined: a stop.
+        let corner = [300.0, 0.0, -700.0];
+        let far = [corner[0] + 300.0 * turn.cos(), 300.0 * turn.sin(), -700.0];
+        let long_first = Move::Line { to: corner, law: Law::SCurve, bounds };
+        let long_second = Move::Line { to: far, law: Law::SCurve, bounds };
+        assert!(shape_corner::<f64, f64>(&long_first, &long_second, from, tol).unwrap().is_none());
+        // A reversal never joins.
+        let back = Move::Line { to: [50.0, 0.0, -700.0], law: Law::SCurve, bounds };
+        assert!(shape_corner::<f64, f64>(&first, &back, from, tol).unwrap().is_none());
     }
 }
