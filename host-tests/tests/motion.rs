@@ -562,3 +562,143 @@ fn no_join_without_a_tolerance_or_once_the_first_line_runs() {
         assert!(stream.set_corner_tolerance(Some(bad)).is_err());
     }
 }
+
+/// Cases of the joined-queue property (each streams a few thousand
+/// setpoints).
+const JOIN_QUEUE_CASES: u32 = 24;
+
+/// One operation on a stream with joins: push a line to the next
+/// waypoint, or run some cycles.
+#[derive(Clone, Debug)]
+enum JoinOp {
+    /// Line to the next waypoint: `dx` further along x, at `y`, `z`.
+    Line {
+        dx: f32,
+        y: f32,
+        z: f32,
+    },
+    Run(u32),
+}
+
+fn join_op() -> impl Strategy<Value = JoinOp> {
+    prop_oneof![
+        (40.0f32..110.0, -40.0f32..40.0, -730.0f32..-680.0).prop_map(|(dx, y, z)| JoinOp::Line { dx, y, z }),
+        (1u32..600).prop_map(JoinOp::Run),
+    ]
+}
+
+/// Lines zig-zagging across the workspace with corners from collinear to
+/// sharp, pushed while the queue runs: the queue keeps its entries in
+/// order (a joined line merges into the entry before it, which had not
+/// started), counts them right, refuses a push only when full and not
+/// joinable, and every emitted setpoint is within the guards and the
+/// joint limits, continuous across joins, ending on the last target.
+#[test]
+fn joined_lines_keep_the_queue_invariants_and_every_limit() {
+    const CAP: usize = 3;
+    let robot = robot();
+    let limits = join_limits();
+    let home = [-200.0f32, 0.0, -700.0];
+    let ops = proptest::collection::vec(join_op(), 1..14);
+    let joins = Cell::new(0u32);
+    let stops = Cell::new(0u32);
+    let result = runner(JOIN_QUEUE_CASES).run(&ops, |ops| {
+        let mut stream: Stream<f32, CAP> = Stream::new(robot, PERIOD, limits, home).expect("home");
+        stream.set_corner_tolerance(Some(CORNER_TOL)).expect("tolerance");
+        // The model: (first id, cycles) per entry, cycles emitted of the front.
+        let mut expected: std::collections::VecDeque<(u32, u32)> = Default::default();
+        let mut emitted = 0u32;
+        let mut next_id = 0u32;
+        let mut at = home;
+        let mut last = to_f64(home);
+        let mut prev_rates = [0.0f64; 3];
+        let mut step = |stream: &mut Stream<f32, CAP>,
+                        expected: &mut std::collections::VecDeque<(u32, u32)>,
+                        emitted: &mut u32|
+         -> Result<bool, TestCaseError> {
+            let got = stream.next_setpoint().expect("validated moves stream");
+            match (got, expected.front().copied()) {
+                (None, None) => Ok(false),
+                (Some(s), Some((id, cycles))) => {
+                    *emitted += 1;
+                    let sp = s.setpoint;
+                    prop_assert_eq!(s.move_id, id);
+                    prop_assert_eq!(sp.cycle, *emitted);
+                    prop_assert_eq!(sp.end_of_move, *emitted == cycles);
+                    prop_assert_eq!(robot.inverse(sp.position).map(|g| g.joints).ok(), Some(sp.joints));
+                    let rates = to_f64(sp.joint_rates);
+                    for arm in 0..3 {
+                        let speed = rates[arm].abs() / f64::from(limits.speed[arm]);
+                        let accel =
+                            ((rates[arm] - prev_rates[arm]) / f64::from(PERIOD)).abs() / f64::from(limits.accel[arm]);
+                        prop_assert!(speed <= 1.0 + LIMIT_RECHECK_REL, "speed {}", speed);
+                        prop_assert!(accel <= 1.0 + LIMIT_RECHECK_REL, "accel {}", accel);
+                    }
+                    prev_rates = rates;
+                    let pos = to_f64(sp.position);
+                    // Position continuous: no step beyond the speed bound.
+                    let step_mm = norm(sub(pos, last));
+                    let max_step = f64::from(JOIN_BOUNDS.speed) * f64::from(PERIOD);
+                    prop_assert!(step_mm <= max_step * (1.0 + LIMIT_RECHECK_REL), "step {}", step_mm);
+                    last = pos;
+                    if sp.end_of_move {
+                        expected.pop_front();
+                        *emitted = 0;
+                    }
+                    Ok(true)
+                }
+                (got, want) => Err(TestCaseError::fail(format!("emitted {got:?}, expected {want:?}"))),
+            }
+        };
+        for op in ops {
+            match op {
+                JoinOp::Line { dx, y, z } => {
+                    let to = [at[0] + dx, y, z];
+                    if to[0] > 220.0 {
+                        continue;
+                    }
+                    let was_full = stream.is_full();
+                    let front_running = expected.len() == 1 && emitted > 0;
+                    match stream.push(&line(to)) {
+                        Ok(acc) => {
+                            prop_assert_eq!(acc.id, next_id);
+                            next_id += 1;
+                            at = to;
+                            if acc.joined {
+                                joins.set(joins.get() + 1);
+                                // Only an entry that has not started can change.
+                                prop_assert!(!front_running && !expected.is_empty());
+                                if let Some(back) = expected.back_mut() {
+                                    back.1 = acc.cycles;
+                                }
+                            } else {
+                                prop_assert!(!was_full);
+                                stops.set(stops.get() + u32::from(!expected.is_empty()));
+                                expected.push_back((acc.id, acc.cycles));
+                            }
+                        }
+                        Err(e) => {
+                            prop_assert!(was_full, "refused: {}", e);
+                            prop_assert_eq!(e.fault, MotionFault::QueueFull);
+                        }
+                    }
+                    prop_assert_eq!(stream.len(), expected.len());
+                    prop_assert_eq!(to_f64(stream.tail()), to_f64(at));
+                }
+                JoinOp::Run(n) => {
+                    for _ in 0..n {
+                        step(&mut stream, &mut expected, &mut emitted)?;
+                    }
+                }
+            }
+        }
+        while step(&mut stream, &mut expected, &mut emitted)? {}
+        prop_assert!(expected.is_empty());
+        prop_assert_eq!(last, to_f64(at));
+        Ok(())
+    });
+    result.unwrap();
+    let (joins, stops) = (joins.get(), stops.get());
+    eprintln!("joined queue: {joins} lines joined, {stops} queued behind another move without a join");
+    assert!(joins > 0 && stops > 0, "both joins and stops exercised: {joins}, {stops}");
+}
