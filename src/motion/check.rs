@@ -32,7 +32,7 @@
 
 use super::error::{MotionError, MotionFault, MoveFault};
 use super::law::{constant, convert, div};
-use super::moves::{Move, PlannedMove, Setpoint, Shaped, shape};
+use super::moves::{Lines, Move, PlannedMove, Setpoint, Shaped, shape};
 use crate::robot::Robot;
 use crate::scalar::{Arith, Real};
 
@@ -165,7 +165,7 @@ fn stretched<S: Real, P: Real<Wide = P>>(
         start,
         end: shaped.end,
         start_joints,
-        line: None,
+        lines: None,
         end_joints: start_joints,
         period,
         cycles,
@@ -188,8 +188,8 @@ pub(crate) fn plan<S: Real, P: Real<Wide = P>>(
 ) -> Result<PlannedMove<S, P>, MotionError> {
     let shaped = shape(mv, start, start_joints)?;
     let mut planned = validate(robot, checker, &shaped, start, start_joints)?;
-    if matches!(mv, Move::Line { .. }) {
-        planned.line = Some(*mv);
+    if let Move::Line { to, law, bounds } = *mv {
+        planned.lines = Some(Lines::single(to, law, bounds, shaped.profile.duration()));
     }
     Ok(planned)
 }

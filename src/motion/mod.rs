@@ -68,4 +68,5 @@ pub use check::{JointRateLimits, MAX_MOVE_CYCLES, MAX_TIME_STRETCH, TIME_SCALING
 pub use error::{MotionError, MotionFault, MoveFault};
 pub use law::{Bounds, Law, LawSample, Profile};
 pub use moves::{COLLINEAR_TURN, MAX_CORNER_RADIUS, MIN_CORNER_RADIUS, Move, PlannedMove, Setpoint};
+pub use path::MAX_JOINED_LINES;
 pub use stream::{Accepted, Stream, StreamSetpoint};

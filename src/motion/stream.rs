@@ -4,7 +4,7 @@ use heapless::Deque;
 
 use super::check::{Checker, JointRateLimits, plan, validate};
 use super::error::{MotionError, MotionFault, MoveFault};
-use super::moves::{Move, PlannedMove, Setpoint, shape_corner};
+use super::moves::{Move, PlannedMove, Setpoint, join_lines};
 use crate::robot::Robot;
 use crate::scalar::{Arith, Real};
 
@@ -60,41 +60,45 @@ pub struct StreamSetpoint<S: Arith> {
 ///
 /// # Joined corners
 /// With a corner tolerance set ([`Stream::set_corner_tolerance`]), a
-/// [`Move::Line`] pushed while the last queued move is a single line
-/// that has not started yet is joined to it when the corner allows: the
-/// queued line is replaced by one move that runs the first line, a
-/// tangent circular arc and the second line under one time law, so the
-/// platform passes the corner without stopping, on an arc that stays
-/// within the tolerance of the corner point. The corner rule (own
-/// choice, built from plane geometry and the centripetal acceleration
-/// `v^2 / r`):
+/// [`Move::Line`] pushed while the last queued entry is a line (or lines
+/// already joined) that has not started yet is joined to it when the
+/// corner allows: the queued entry is replaced by one move that runs the
+/// lines with every corner rounded by a tangent circular arc, under one
+/// time law, so the platform passes the corners without stopping, on arcs
+/// that stay within the tolerance of the corner points. Up to
+/// [`super::MAX_JOINED_LINES`] lines join into one entry. The corner rule
+/// (own choice, built from plane geometry and the centripetal
+/// acceleration `v^2 / r`):
 ///
 /// * arc radius: the largest keeping the arc within the tolerance of the
 ///   corner, `r = tol cos(theta/2) / (1 - cos(theta/2))` for a turn of
 ///   `theta`, at most what lets the arc take half of either line, at
-///   most 2 m; a collinear pair (turn below 1e-4 rad) has no arc;
-/// * speed through the corner: the joined law's speed bound is lowered to
-///   `sqrt(a r)`, `a` the path acceleration bound, so the centripetal
-///   acceleration on the arc stays within it; the junction speed is the
-///   law's speed there, full speed for a collinear pair;
-/// * the law and bounds are the first line's, each bound tightened to the
-///   second line's when smaller;
-/// * the pair is joined only when the joined law is shorter than the two
-///   laws run one after the other. A reversal (no arc fits), a sharp
-///   corner (the arc speed would be too low to gain time) or a short pair
-///   therefore stop at the corner, as without a tolerance.
+///   most [`super::MAX_CORNER_RADIUS`]; a collinear corner (turn below
+///   [`super::COLLINEAR_TURN`]) has no arc;
+/// * speed through the corners: the joined law's speed bound is lowered
+///   to `sqrt(a r)` for the smallest arc, `a` the path acceleration
+///   bound, so the centripetal acceleration on every arc stays within it;
+///   the junction speed is the law's speed there: the full speed through
+///   a collinear or shallow corner, `sqrt(a r)` at most through a tighter
+///   one, zero (a stop) through a reversal;
+/// * the law is the first line's, each bound the smallest of the lines';
+/// * a line is joined only when the joined law is shorter than the queued
+///   entry's law followed by the new line's (before time scaling). A
+///   reversal (no arc fits), a sharp corner (the arc speed would be too
+///   low to gain time) or short lines therefore stop at the corner, as
+///   without a tolerance.
 ///
-/// The joined pair is validated as a whole, exactly like a single move
+/// The joined lines are validated as a whole, exactly like a single move
 /// (guarded kinematics, joint speed and acceleration on every cycle, time
-/// scaling), before it replaces the queued line; if it fails, or the
-/// first line is already running, or the previous move is not a single
-/// line (a pick, a dwell, a joint move, or a pair already joined: at most
-/// two lines join), the second line is planned alone from the corner and
-/// the platform stops there. No setpoint is emitted that was not
-/// checked. The joined pair is one queue entry; its setpoints carry the
-/// first line's id, and [`Accepted::joined`] tells the caller. Joining
-/// needs no free queue slot. Lines given to [`Stream::push_planned`] are
-/// never joined.
+/// scaling), before they replace the queued entry; if that fails, or the
+/// entry is already running, or it is not a line (a pick, a dwell, a
+/// joint move), or it already holds [`super::MAX_JOINED_LINES`] lines,
+/// the new line is planned alone from the corner and the platform stops
+/// there. No setpoint is emitted that was not checked. Joined lines are
+/// one queue entry; its setpoints carry the first line's id, and
+/// [`Accepted::joined`] tells the caller. Joining needs no free queue
+/// slot. Picks are never joined, nor lines given to
+/// [`Stream::push_planned`].
 ///
 /// # Number types
 /// `S` is the type the stream computes each cycle in (`f32`, `f64` or
@@ -225,9 +229,10 @@ impl<S: Real, P: Real<Wide = P>, const N: usize> Stream<S, N, P> {
             return None;
         }
         let &(_, back) = self.queue.back()?;
-        let first = back.line?;
-        let shaped = shape_corner(&first, mv, back.start, tolerance).ok()??;
-        let joined = validate(&self.robot, &self.checker, &shaped, back.start, back.start_joints).ok()?;
+        let prev = back.lines?;
+        let (shaped, lines) = join_lines(&prev, mv, back.start, tolerance).ok()??;
+        let mut joined = validate(&self.robot, &self.checker, &shaped, back.start, back.start_joints).ok()?;
+        joined.lines = Some(lines);
         let (_, slot) = self.queue.back_mut()?;
         *slot = joined;
         self.tail = joined.end;
