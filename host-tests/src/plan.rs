@@ -51,9 +51,10 @@
 //! `corner_tolerance_mm` switches on joined corners: a line that follows
 //! a line passes their corner without stopping, on a tangent arc at most
 //! that far from the corner point, when the corner allows it (not a
-//! reversal, and faster than stopping); see the `Stream` docs of the core
-//! for the rule. Without it every move ends at rest. The summary lists
-//! the moves that were joined to the one before.
+//! reversal, and faster than stopping); up to four consecutive lines run
+//! as one move. See the `Stream` docs of the core for the rule. Without
+//! it every move ends at rest. The summary lists the moves that were
+//! joined to the one before.
 //!
 //! # Output
 //! CSV with the header

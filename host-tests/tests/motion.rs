@@ -501,6 +501,34 @@ fn a_shallow_corner_is_joined_without_a_stop_fixed() {
     shallow_corner_is_joined::<Fixed>(LIMIT_RECHECK_REL_FIXED);
 }
 
+/// Three lines with two shallow corners join into one entry and stream
+/// within every limit, smoothly, in f32 and in fixed point.
+fn three_lines_join_into_one_move<S: Real>(recheck_rel: f64) {
+    let robot = RobotFile::demo().robot::<S>().expect("demo robot");
+    let limits = join_limits();
+    let home = [-150.0f32, 0.0, -700.0];
+    let mut stream: Stream<S, 4, f32> = Stream::new(robot, PERIOD, limits, wide::<S>(home)).expect("home");
+    stream.set_corner_tolerance(Some(CORNER_TOL)).expect("tolerance");
+    let targets = [[-20.0f32, 15.0, -705.0], [100.0, 0.0, -710.0], [220.0, 20.0, -700.0]];
+    let joined: Vec<bool> = targets.iter().map(|&t| stream.push(&line(t)).expect("line").joined).collect();
+    assert_eq!(joined, [false, true, true]);
+    assert_eq!(stream.len(), 1);
+    let out = stream_checked(&mut stream, to_f64(wide::<S>(home)), &limits, recheck_rel);
+    assert_eq!(out.ends.len(), 1, "no stop at either corner");
+    assert_eq!(out.positions.last().copied(), Some(to_f64(wide::<S>(targets[2]))));
+    assert_smooth(&out.positions);
+}
+
+#[test]
+fn three_lines_join_into_one_move_f32() {
+    three_lines_join_into_one_move::<f32>(LIMIT_RECHECK_REL);
+}
+
+#[test]
+fn three_lines_join_into_one_move_fixed() {
+    three_lines_join_into_one_move::<Fixed>(LIMIT_RECHECK_REL_FIXED);
+}
+
 #[test]
 fn collinear_lines_are_joined_at_full_speed() {
     let limits = join_limits();
