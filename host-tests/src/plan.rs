@@ -17,6 +17,7 @@
 //! speed_mm_s = 2500.0
 //! accel_mm_s2 = 40000.0
 //! jerk_mm_s3 = 2.0e6
+//! corner_tolerance_mm = 0.5          # optional: join consecutive lines
 //!
 //! [joint]                            # defaults for joint moves
 //! law = "trapezoid"
@@ -46,6 +47,14 @@
 //!
 //! The `[cartesian]` and `[joint]` sections may be left out when every
 //! move of that kind gives its own law and bounds.
+//!
+//! `corner_tolerance_mm` switches on joined corners: a line that follows
+//! a line passes their corner without stopping, on a tangent arc at most
+//! that far from the corner point, when the corner allows it (not a
+//! reversal, and faster than stopping); up to four consecutive lines run
+//! as one move. See the `Stream` docs of the core for the rule. Without
+//! it every move ends at rest. The summary lists the moves that were
+//! joined to the one before.
 //!
 //! # Output
 //! CSV with the header
@@ -132,6 +141,8 @@ pub struct CartesianDefaults {
     pub speed_mm_s: Option<f64>,
     pub accel_mm_s2: Option<f64>,
     pub jerk_mm_s3: Option<f64>,
+    /// Corner tolerance for joining consecutive lines (mm); absent: no joins.
+    pub corner_tolerance_mm: Option<f64>,
 }
 
 /// `[joint]`: defaults for joint moves.
@@ -277,6 +288,8 @@ pub struct Summary {
     pub accel_limit_deg_s2: [f64; 3],
     /// Moves that were slowed down: (index, time stretch).
     pub time_scaled: Vec<(usize, f64)>,
+    /// Lines joined to the line before them through their corner (index).
+    pub joined: Vec<usize>,
 }
 
 impl fmt::Display for Summary {
@@ -301,6 +314,12 @@ impl fmt::Display for Summary {
                 self.accel_limit_deg_s2[arm],
                 100.0 * self.peak_accel_deg_s2[arm] / self.accel_limit_deg_s2[arm],
             )?;
+        }
+        if self.joined.is_empty() {
+            writeln!(f, "  corners joined: none")?;
+        } else {
+            let list: Vec<String> = self.joined.iter().map(ToString::to_string).collect();
+            writeln!(f, "  corners joined: move {} (to the move before)", list.join(", "))?;
         }
         if self.time_scaled.is_empty() {
             write!(f, "  time scaling: none (every move ran as asked)")
@@ -461,6 +480,9 @@ pub fn run_with<S: Real, P: Real<Wide = P>>(
     let list = moves.moves_f64()?.iter().map(move_in::<P>).collect::<Result<Vec<_>, _>>()?;
     let mut stream: Stream<S, QUEUE_CAPACITY, P> =
         Stream::new(robot, period, limits, start).map_err(PlanError::Start)?;
+    if let Some(tol) = moves.cartesian.corner_tolerance_mm {
+        stream.set_corner_tolerance(Some(conv(tol, "the corner tolerance")?)).map_err(PlanError::Start)?;
+    }
     let at_start = robot.inverse(start).map_err(|e| PlanError::Start(MotionError::before_sampling(e.into())))?;
 
     writeln!(out, "{CSV_HEADER}")?;
@@ -476,6 +498,7 @@ pub fn run_with<S: Real, P: Real<Wide = P>>(
         peak_accel_deg_s2: [0.0; 3],
         accel_limit_deg_s2: accel.map(f64::to_degrees),
         time_scaled: Vec::new(),
+        joined: Vec::new(),
     };
     let mut next = 0usize;
     let mut prev_rates = [0.0; 3];
@@ -486,6 +509,9 @@ pub fn run_with<S: Real, P: Real<Wide = P>>(
                 error,
                 time_s: f64::from(error.cycle) * period_f64,
             })?;
+            if accepted.joined {
+                summary.joined.push(next);
+            }
             if accepted.time_scaled {
                 summary.time_scaled.push((next, accepted.stretch.to_f64()));
             }
@@ -565,7 +591,27 @@ mod tests {
                 assert_eq!(mantissa.len(), digits(scalar) + 1, "{line}");
             }
             assert!(!format!("{s}").is_empty());
+            // The two lines back to the middle meet at a 13 degree corner:
+            // joined; nothing else is a line after a line.
+            assert_eq!(s.joined, vec![DEMO_JOINED_MOVE], "{scalar:?}");
         }
+    }
+
+    /// The demo move joined to the one before (the second line back).
+    const DEMO_JOINED_MOVE: usize = 8;
+
+    #[test]
+    fn corner_tolerance_switches_joins_and_must_be_positive() {
+        let without = DEMO_MOVES_TOML.replace("corner_tolerance_mm = 0.5", "");
+        let mut out = Vec::new();
+        let s = run(&RobotFile::demo(), &without, RATE_HZ, ScalarKind::F32, &mut out).unwrap();
+        assert!(s.joined.is_empty());
+        let (joined, _) = run_demo(ScalarKind::F32);
+        // Joining saves time: no stop at the corner.
+        assert!(joined.duration_s < s.duration_s, "{} vs {}", joined.duration_s, s.duration_s);
+        let bad = DEMO_MOVES_TOML.replace("corner_tolerance_mm = 0.5", "corner_tolerance_mm = -1.0");
+        let err = run(&RobotFile::demo(), &bad, RATE_HZ, ScalarKind::F32, &mut Vec::new()).unwrap_err();
+        assert!(matches!(err, PlanError::Start(_)), "{err}");
     }
 
     #[test]

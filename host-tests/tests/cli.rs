@@ -467,7 +467,7 @@ fn plan_failures_exit_with_one_message() {
     let demo_path = demo_moves_path();
     let cases: [(Vec<&str>, &str); 4] = [
         (vec!["plan", "--moves", bad_toml.to_str().unwrap()], "hop_mm"),
-        (vec!["plan", "--moves", unreachable.to_str().unwrap()], "move 9 refused"),
+        (vec!["plan", "--moves", unreachable.to_str().unwrap()], "move 10 refused"),
         (vec!["plan", "--moves", missing.to_str().unwrap()], "no_such_moves.toml"),
         (vec!["plan", "--moves", demo_path.to_str().unwrap(), "--rate-hz=0"], "rate"),
     ];

@@ -32,7 +32,7 @@
 
 use super::error::{MotionError, MotionFault, MoveFault};
 use super::law::{constant, convert, div};
-use super::moves::{Move, PlannedMove, Setpoint, Shaped, shape};
+use super::moves::{Lines, Move, PlannedMove, Setpoint, Shaped, shape};
 use crate::robot::Robot;
 use crate::scalar::{Arith, Real};
 
@@ -164,6 +164,8 @@ fn stretched<S: Real, P: Real<Wide = P>>(
         timing: shaped.profile.timing(cycles, stretch)?,
         start,
         end: shaped.end,
+        start_joints,
+        lines: None,
         end_joints: start_joints,
         period,
         cycles,
@@ -185,12 +187,28 @@ pub(crate) fn plan<S: Real, P: Real<Wide = P>>(
     start_joints: [S; 3],
 ) -> Result<PlannedMove<S, P>, MotionError> {
     let shaped = shape(mv, start, start_joints)?;
+    let mut planned = validate(robot, checker, &shaped, start, start_joints)?;
+    if let Move::Line { to, law, bounds } = *mv {
+        planned.lines = Some(Lines::single(to, law, bounds, shaped.profile.duration()));
+    }
+    Ok(planned)
+}
+
+/// Validates the shaped move `shaped` from `start` (mm) with joint angles
+/// `start_joints` (rad), time scaling it when needed.
+pub(crate) fn validate<S: Real, P: Real<Wide = P>>(
+    robot: &Robot<S>,
+    checker: &Checker<P>,
+    shaped: &Shaped<S, P>,
+    start: [S::Wide; 3],
+    start_joints: [S; 3],
+) -> Result<PlannedMove<S, P>, MotionError> {
     let headroom = constant::<P>(TIME_SCALING_HEADROOM)?;
     let max_stretch = constant::<P>(MAX_TIME_STRETCH)?;
     let mut stretch = P::ONE;
     let mut refusal = MotionError::before_sampling(MotionFault::TooLong);
     for pass in 0..TIME_SCALING_PASSES {
-        let mut planned = stretched(&shaped, start, start_joints, checker.period, stretch)?;
+        let mut planned = stretched(shaped, start, start_joints, checker.period, stretch)?;
         let found = scan(robot, checker, &planned)?;
         let Some(over) = found.first_over else {
             planned.speed_usage = found.speed;

@@ -6,7 +6,7 @@
 //!   polynomial), planned in closed form from speed, acceleration and
 //!   jerk bounds, rest to rest.
 //! * `path`: straight line, pick-and-place cycle with rounded corners,
-//!   dwell, joint-space line.
+//!   two lines joined by a tangent arc, dwell, joint-space line.
 //! * [`Move`] describes a move; [`Stream::plan`] / [`Stream::push`] turn it
 //!   into a [`PlannedMove`] after checking every cycle of it (see
 //!   [`check`] for what is checked, how moves are slowed down instead of
@@ -15,7 +15,9 @@
 //!   one [`Setpoint`] per control cycle: platform position, joint angles
 //!   (guarded inverse kinematics) and joint rates (Jacobian), with a flag
 //!   on the last cycle of each move. See [`Stream`] for what happens
-//!   between consecutive moves (they meet at rest).
+//!   between consecutive moves: they meet at rest, except two lines
+//!   joined through their corner when a corner tolerance is set
+//!   ([`Stream::set_corner_tolerance`]).
 //!
 //! Everything allocates nothing and never panics. Time inside a move is
 //! the cycle number, an integer, never a running sum; each move ends
@@ -65,5 +67,6 @@ mod stream;
 pub use check::{JointRateLimits, MAX_MOVE_CYCLES, MAX_TIME_STRETCH, TIME_SCALING_PASSES};
 pub use error::{MotionError, MotionFault, MoveFault};
 pub use law::{Bounds, Law, LawSample, Profile};
-pub use moves::{Move, PlannedMove, Setpoint};
+pub use moves::{COLLINEAR_TURN, MAX_CORNER_RADIUS, MIN_CORNER_RADIUS, Move, PlannedMove, Setpoint};
+pub use path::MAX_JOINED_LINES;
 pub use stream::{Accepted, Stream, StreamSetpoint};

@@ -6,7 +6,7 @@
 
 use super::error::{MotionError, MotionFault, MoveFault};
 use super::law::{Bounds, Law, Profile, Timing, constant, convert, div};
-use super::path::{Path, Pick, Target};
+use super::path::{Bend, Chain, MAX_JOINED_LINES, Path, Pick, Target};
 use crate::error::Error;
 use crate::robot::Robot;
 use crate::scalar::{Arith, Real};
@@ -88,6 +88,12 @@ pub struct PlannedMove<S: Arith, P = S> {
     pub(crate) timing: Timing<S>,
     pub(crate) start: [S::Wide; 3],
     pub(crate) end: [S::Wide; 3],
+    /// Joint angles at the start (rad).
+    pub(crate) start_joints: [S; 3],
+    /// The line moves this was planned from, when it is a line or lines
+    /// joined (the stream may join the next line to it, see
+    /// [`super::Stream`]).
+    pub(crate) lines: Option<Lines<P>>,
     /// Joint angles at the end (rad).
     pub(crate) end_joints: [S; 3],
     pub(crate) period: P,
@@ -138,6 +144,13 @@ impl<S: Real, P: Real<Wide = P>> PlannedMove<S, P> {
     #[must_use]
     pub const fn stretch(&self) -> P {
         self.stretch
+    }
+
+    /// Whether this move is line moves joined through their corners (see
+    /// [`super::Stream`]).
+    #[must_use]
+    pub const fn is_joined(&self) -> bool {
+        matches!(self.path, Path::Chain(_))
     }
 
     /// Whether the move was slowed down to respect a joint limit (time
@@ -290,4 +303,211 @@ pub(crate) fn shape<S: Real, P: Real<Wide = P>>(
             Ok(Shaped { path, profile, end: start })
         }
     }
+}
+
+/// Turn angles below this (rad) count as collinear: the two lines are
+/// joined without an arc (the direction steps by less than this, a
+/// velocity step below `1e-4` of the path speed, which the validation
+/// checks like any other).
+pub const COLLINEAR_TURN: f64 = 1e-4;
+
+/// Largest corner arc radius (mm): keeps the arc centre and the arc's
+/// points inside the fixed-point range; a smaller radius than the
+/// tolerance allows only lowers the corner's deviation.
+pub const MAX_CORNER_RADIUS: f64 = 2000.0;
+
+/// Smallest corner arc radius (mm): below it (a near reversal, or a very
+/// small tolerance) the pair is not joined and the platform stops.
+pub const MIN_CORNER_RADIUS: f64 = 1e-3;
+
+/// The bounds of a joined pair: the smaller of each.
+fn tighter<P: Real>(a: Bounds<P>, b: Bounds<P>) -> Bounds<P> {
+    Bounds { speed: a.speed.min_of(b.speed), accel: a.accel.min_of(b.accel), jerk: a.jerk.min_of(b.jerk) }
+}
+
+/// A run of line moves, kept with a queued move so that the next line can
+/// join it: the targets (mm), the law and bounds of the joined law, and
+/// that law's duration before time scaling (s).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub(crate) struct Lines<P> {
+    pub(crate) to: [[P; 3]; MAX_JOINED_LINES],
+    pub(crate) count: usize,
+    pub(crate) law: Law,
+    pub(crate) bounds: Bounds<P>,
+    pub(crate) law_duration: P,
+}
+
+impl<P: Real> Lines<P> {
+    /// One line to `to` under `law` within `bounds`, lasting `law_duration`.
+    pub(crate) fn single(to: [P; 3], law: Law, bounds: Bounds<P>, law_duration: P) -> Self {
+        Self { to: [to; MAX_JOINED_LINES], count: 1, law, bounds, law_duration }
+    }
+}
+
+/// Joined lines: the shaped move and the run it now holds.
+pub(crate) type Joined<S, P> = (Shaped<S, P>, Lines<P>);
+
+/// The geometry of one corner, in the planning type.
+#[derive(Clone, Copy)]
+struct Round<P> {
+    r: P,
+    e: P,
+    theta: P,
+    n: [P; 3],
+}
+
+/// Rounds the corner between directions `d1` and `d2` of lines of length
+/// `l1` and `l2` (each gives at most half its length to the arc) within
+/// `tolerance` (mm); `None` for a reversal or an arc below
+/// [`MIN_CORNER_RADIUS`].
+fn round<P: Real>(d1: [P; 3], d2: [P; 3], l1: P, l2: P, tolerance: P) -> Result<Option<Round<P>>, MotionError> {
+    let cos = (d1[0] * d2[0] + d1[1] * d2[1] + d1[2] * d2[2]).max_of(-P::ONE).min_of(P::ONE);
+    // The part of d2 across d1; its length is sin(theta).
+    let across = [d2[0] - cos * d1[0], d2[1] - cos * d1[1], d2[2] - cos * d1[2]];
+    let sin = norm3(across);
+    let theta = sin.atan2(cos);
+    if theta < constant::<P>(COLLINEAR_TURN)? {
+        return Ok(Some(Round { r: P::ONE, e: P::ZERO, theta: P::ZERO, n: [P::ZERO; 3] }));
+    }
+    if !(P::ONE + cos > P::ZERO) {
+        // A reversal: no arc fits.
+        return Ok(None);
+    }
+    let half_cos = ((P::ONE + cos) * P::HALF).sqrt();
+    let tan_half = div(sin, P::ONE + cos)?;
+    let by_tolerance = div(tolerance * half_cos, P::ONE - half_cos)?;
+    let by_length = div(l1.min_of(l2) * P::HALF, tan_half)?;
+    let r = by_tolerance.min_of(by_length).min_of(constant::<P>(MAX_CORNER_RADIUS)?);
+    if !(r >= constant::<P>(MIN_CORNER_RADIUS)?) {
+        return Ok(None);
+    }
+    let inv_sin = div(P::ONE, sin)?;
+    Ok(Some(Round { r, e: r * tan_half, theta, n: across.map(|c| c * inv_sin) }))
+}
+
+/// Joins the line move `next` to the run of lines `prev` that starts at
+/// `start` (mm): one path of lines and tangent arcs under one time law,
+/// with the run extended by `next`; `None` when they should not be
+/// joined (the caller then queues `next` on its own, after a stop).
+///
+/// The corner rule (see [`super::Stream`]): with turn angle `theta`
+/// between two directions, the arc radius is the largest that keeps
+/// the arc within `tolerance` (mm) of the corner point,
+/// `r = tolerance cos(theta/2) / (1 - cos(theta/2))` (the corner-to-arc
+/// distance of a tangent arc is `r (1/cos(theta/2) - 1)`, plane
+/// geometry), reduced so that the arc takes at most half of either line
+/// (`r tan(theta/2) <= L/2`) and at most [`MAX_CORNER_RADIUS`]. The law's
+/// speed bound is lowered to `sqrt(a r)` for the smallest arc, so that
+/// the centripetal acceleration on every arc stays within the path
+/// acceleration bound `a`. The law is the first line's, each bound the
+/// smallest of the lines'. The run is joined only when the joined law is
+/// shorter than `prev`'s law followed by `next`'s (both before time
+/// scaling); never beyond [`MAX_JOINED_LINES`] lines, nor through a
+/// reversal or an arc below [`MIN_CORNER_RADIUS`].
+///
+/// # Errors
+/// The errors of [`shape`] for the new line, or
+/// [`MotionFault::Unrepresentable`].
+#[allow(clippy::too_many_lines)] // one geometric construction, step by step
+pub(crate) fn join_lines<S: Real, P: Real<Wide = P>>(
+    prev: &Lines<P>,
+    next: &Move<P>,
+    start: [S::Wide; 3],
+    tolerance: P,
+) -> Result<Option<Joined<S, P>>, MotionError> {
+    let Move::Line { to: end, law: next_law, bounds: next_bounds } = *next else {
+        return Ok(None);
+    };
+    if prev.count >= MAX_JOINED_LINES || prev.count == 0 {
+        return Ok(None);
+    }
+    let end = finite3(end)?;
+    let mut lines = *prev;
+    if let Some(slot) = lines.to.get_mut(prev.count) {
+        *slot = end;
+    }
+    lines.count = prev.count + 1;
+    lines.bounds = tighter(prev.bounds, next_bounds);
+    let from: [P; 3] = convert3(start)?;
+    // Directions and lengths of every line.
+    let mut dir = [[P::ZERO; 3]; MAX_JOINED_LINES];
+    let mut len = [P::ZERO; MAX_JOINED_LINES];
+    let mut p = from;
+    for (i, &q) in lines.to.iter().enumerate().take(lines.count) {
+        let v = [q[0] - p[0], q[1] - p[1], q[2] - p[2]];
+        let l = norm3(v);
+        if !(l > P::ZERO) {
+            return Err(MotionError::invalid(MoveFault::ZeroLength));
+        }
+        let inv = div(P::ONE, l)?;
+        if let (Some(d), Some(ls)) = (dir.get_mut(i), len.get_mut(i)) {
+            *d = v.map(|c| c * inv);
+            *ls = l;
+        }
+        p = q;
+    }
+    let alone = Profile::plan(next_law, len.get(prev.count).copied().unwrap_or(P::ONE), next_bounds)?.duration();
+    // Every corner, then the arc lengths along the chain.
+    let none = Round { r: P::ONE, e: P::ZERO, theta: P::ZERO, n: [P::ZERO; 3] };
+    let mut rounds = [none; MAX_JOINED_LINES - 1];
+    let mut speed = lines.bounds.speed;
+    for (i, slot) in rounds.iter_mut().enumerate().take(lines.count - 1) {
+        let (Some(&d1), Some(&d2), Some(&l1), Some(&l2)) = (dir.get(i), dir.get(i + 1), len.get(i), len.get(i + 1))
+        else {
+            return Ok(None);
+        };
+        let Some(r) = round(d1, d2, l1, l2, tolerance)? else { return Ok(None) };
+        if r.theta > P::ZERO {
+            speed = speed.min_of((lines.bounds.accel * r.r).sqrt());
+        }
+        *slot = r;
+    }
+    let wide = |v: P| -> Result<S::Wide, MotionError> { convert(v) };
+    let mut bends = [None; MAX_JOINED_LINES - 1];
+    let (mut base, mut e_prev) = (P::ZERO, P::ZERO);
+    for (i, slot) in bends.iter_mut().enumerate().take(lines.count - 1) {
+        let (Some(rd), Some(&corner), Some(&l1), Some(&d1), Some(&d2)) =
+            (rounds.get(i), lines.to.get(i), len.get(i), dir.get(i), dir.get(i + 1))
+        else {
+            return Ok(None);
+        };
+        let b_in = base + l1 - e_prev - rd.e;
+        let b_out = b_in + rd.r * rd.theta;
+        let t_in = [corner[0] - rd.e * d1[0], corner[1] - rd.e * d1[1], corner[2] - rd.e * d1[2]];
+        let centre = [t_in[0] + rd.r * rd.n[0], t_in[1] + rd.r * rd.n[1], t_in[2] + rd.r * rd.n[2]];
+        let t_out = [corner[0] + rd.e * d2[0], corner[1] + rd.e * d2[1], corner[2] + rd.e * d2[2]];
+        let r_s = wide(rd.r)?;
+        *slot = Some(Bend {
+            b_in: wide(b_in)?,
+            b_out: wide(b_out)?,
+            centre: convert3(centre)?,
+            d_in: convert3(d1)?,
+            n: convert3(rd.n)?,
+            r: r_s,
+            inv_r: S::recip(r_s).ok_or(MotionError::before_sampling(MotionFault::Unrepresentable))?,
+            t_out: convert3(t_out)?,
+            d_out: convert3(d2)?,
+        });
+        (base, e_prev) = (b_out, rd.e);
+    }
+    let last = len.get(prev.count).copied().unwrap_or(P::ZERO);
+    let length = base + last - e_prev;
+    let law = lines.law;
+    let profile = Profile::plan(law, length, Bounds { speed, ..lines.bounds })?;
+    if !(profile.duration() < prev.law_duration + alone) {
+        return Ok(None);
+    }
+    lines.law_duration = profile.duration();
+    let Some(first) = bends.first().copied().flatten() else { return Ok(None) };
+    let bend = bends.map(|b| b.unwrap_or(first));
+    let to: [S::Wide; 3] = convert3(end)?;
+    let chain = Chain {
+        from: start,
+        d0: convert3(dir.first().copied().unwrap_or([P::ZERO; 3]))?,
+        to,
+        bend,
+        bends: lines.count - 1,
+        length: wide(length)?,
+    };
+    Ok(Some((Shaped { path: Path::Chain(chain), profile, end: to }, lines)))
 }
