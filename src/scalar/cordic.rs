@@ -3,7 +3,7 @@
 //! `i32::MIN` reserved as "not a number").
 //!
 //! * Square root: the binary digit-by-digit (restoring) method, one result
-//!   bit per step, 28 steps, on a 64-bit radicand; see e.g. J. W. Crenshaw,
+//!   bit per step, 28 steps, on 32-bit words; see e.g. J. W. Crenshaw,
 //!   "Integer Square Roots", Embedded Systems Programming, February 1998.
 //!   Rounded to nearest from the remainder.
 //! * `atan2`: CORDIC in vectoring mode and `sin_cos`: CORDIC in rotation
@@ -98,7 +98,7 @@ const INV_TWO_PI_Q32: i64 = 683_565_276;
 /// * Input: `x >= 0` (any representable value, up to 64). A negative
 ///   input or "not a number" returns "not a number".
 /// * Method: digit-by-digit on the 56-bit radicand `x * 2^25` (whose root
-///   is the Q7.25 root), 28 steps, then round to nearest: the remainder
+///   is the Q7.25 root), 28 steps on 32-bit words, then round to nearest: the remainder
 ///   `x*2^25 - r^2` exceeds `r` exactly when the root is at least `r + 1/2`.
 /// * Error: at most 0.5 LSB (the exact root, rounded).
 ///
@@ -109,27 +109,32 @@ pub(crate) fn sqrt(x: i32) -> i32 {
     if x < 0 {
         return NAN;
     }
-    // x < 2^31, so the radicand is below 2^56 and the root below 2^28.
+    // The radicand x * 2^25 equals y * 2^24 with y = 2x < 2^32: its 28
+    // base-4 digits are the 16 of y, top first, then 12 zeros. Bringing
+    // them down one per step keeps every quantity in 32 bits (a 64-bit
+    // remainder costs several instructions per operation on a Cortex-M0).
     #[allow(clippy::cast_sign_loss)] // x >= 0
-    let mut rem = (x as u64) << FRAC;
-    let mut root: u64 = 0;
-    // bit runs over the even powers 2^54, 2^52, ..., 2^0.
-    let mut bit: u64 = 1 << 54;
+    let mut y = (x as u32) << 1;
+    let (mut rem, mut root) = (0u32, 0u32);
     for _ in 0..28 {
-        let trial = root + bit;
+        // Invariant: rem <= 2 * root and root < 2^28 (the root of a
+        // radicand below 2^56), so rem < 2^29 + 1 and the shifted
+        // remainder below 2^31 + 8; the trial value is below 2^30 + 1.
+        rem = (rem << 2) | (y >> 30);
+        y <<= 2;
+        let trial = (root << 2) | 1;
+        root <<= 1;
         if rem >= trial {
             rem -= trial;
-            root = (root >> 1) + bit;
-        } else {
-            root >>= 1;
+            root |= 1;
         }
-        bit >>= 2;
     }
+    // rem = radicand - root^2; round to nearest as before.
     if rem > root {
         root += 1;
     }
     // root <= 2^28 < 2^31.
-    #[allow(clippy::cast_possible_truncation)]
+    #[allow(clippy::cast_possible_wrap)]
     let r = root as i32;
     r
 }

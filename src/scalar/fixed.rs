@@ -117,6 +117,72 @@ fn narrow(raw: i64) -> i32 {
     }
 }
 
+/// The exact product of two `u32` as a `u64`, from four 16 x 16 -> 32
+/// bit partial products (schoolbook multiplication, e.g. D. E. Knuth, The
+/// Art of Computer Programming vol. 2, 4.3.1, algorithm M with base
+/// 2^16). A Cortex-M0 multiplies 32 x 32 -> 32 bits only, so a plain
+/// `u64` product there is a call to the general 64 x 64 bit library
+/// routine; this form is four `MULS` and a few additions. Exact for every
+/// input (each partial product is below 2^32 and the middle sum below
+/// 3 * 2^16).
+#[inline]
+fn mul_u32_wide(a: u32, b: u32) -> u64 {
+    let (a0, a1) = (a & 0xFFFF, a >> 16);
+    let (b0, b1) = (b & 0xFFFF, b >> 16);
+    let (p00, p01, p10, p11) = (a0 * b0, a0 * b1, a1 * b0, a1 * b1);
+    // Each term below 2^16: the sum is below 3 * 2^16.
+    let mid = (p00 >> 16) + (p01 & 0xFFFF) + (p10 & 0xFFFF);
+    let lo = (mid << 16) | (p00 & 0xFFFF);
+    // The full product is below 2^64, so its high word cannot overflow.
+    let hi = p11 + (p01 >> 16) + (p10 >> 16) + (mid >> 16);
+    (u64::from(hi) << 32) | u64::from(lo)
+}
+
+/// The exact product of two `i32` as an `i64` (see [`mul_u32_wide`]);
+/// neither operand may be `i32::MIN` (the NaN value, excluded by every
+/// caller), so the magnitude is below 2^62.
+#[inline]
+fn mul_i32_wide(a: i32, b: i32) -> i64 {
+    #[allow(clippy::cast_possible_wrap)] // below 2^62
+    let p = mul_u32_wide(a.unsigned_abs(), b.unsigned_abs()) as i64;
+    if (a ^ b) < 0 { -p } else { p }
+}
+
+/// `floor(n / d)` when it is below 2^31, else `None`; `0 < d < 2^31`.
+///
+/// Restoring (shift-and-subtract) long division, one quotient bit per
+/// step, e.g. D. E. Knuth, The Art of Computer Programming vol. 2, 4.3.1.
+/// The bits of `n` above the 31 lowest form the first partial remainder
+/// (the quotient fits 31 bits exactly when that is below `d`); then a
+/// fixed 31 steps bring down one bit each. Every quantity stays in 32 bits
+/// (the remainder below `2d < 2^32`): a Cortex-M0 has no divide
+/// instruction, and a general 64-bit division there is a long library
+/// call. Exact.
+#[inline]
+fn div_u64_by_u31(n: u64, d: u32) -> Option<u32> {
+    if n >> 31 >= u64::from(d) {
+        return None;
+    }
+    // Below d < 2^31.
+    #[allow(clippy::cast_possible_truncation)]
+    let mut rem = (n >> 31) as u32;
+    // The 31 low bits of n, top first.
+    #[allow(clippy::cast_possible_truncation)]
+    let mut low = (n as u32) << 1;
+    let mut q = 0u32;
+    for _ in 0..31 {
+        // rem < d, so the shifted value is below 2d < 2^32.
+        rem = (rem << 1) | (low >> 31);
+        low <<= 1;
+        q <<= 1;
+        if rem >= d {
+            rem -= d;
+            q |= 1;
+        }
+    }
+    Some(q)
+}
+
 /// `(p + 2^(s-1)) >> s`: a shift rounding to nearest, ties towards +inf.
 /// `s` is 1..=62 at every call site, and `|p| < 2^62` there.
 #[inline]
@@ -145,7 +211,7 @@ fn sub_raw(a: i32, b: i32) -> i32 {
 /// `a * b >> shift`, rounded; `|a * b| < 2^62`.
 #[inline]
 fn mul_raw(a: i32, b: i32, shift: u32) -> i32 {
-    if a == NAN || b == NAN { NAN } else { narrow(shift_round(i64::from(a) * i64::from(b), shift)) }
+    if a == NAN || b == NAN { NAN } else { narrow(shift_round(mul_i32_wide(a, b), shift)) }
 }
 
 /// `(a << frac) / b`, rounded, or `None`.
@@ -154,11 +220,15 @@ fn div_raw(a: i32, b: i32, frac: u32) -> Option<i32> {
     if a == NAN || b == NAN || b == 0 {
         return None;
     }
-    // |a << frac| < 2^55; |b| < 2^31.
-    let (n, d) = (i64::from(a) << frac, i64::from(b));
-    let q = if d > 0 { div_round(n, d) } else { div_round(-n, -d) };
-    let q = narrow(q);
-    if q == NAN { None } else { Some(q) }
+    // Rounded to nearest, ties away from zero, is symmetric in the signs:
+    // round(|a| 2^frac / |b|) = floor((|a| 2^frac + floor(|b| / 2)) / |b|),
+    // negated when the signs differ. |a| 2^frac < 2^56; 0 < |b| < 2^31.
+    let (ua, d) = (a.unsigned_abs(), b.unsigned_abs());
+    let q = div_u64_by_u31((u64::from(ua) << frac) + u64::from(d / 2), d)?;
+    // q < 2^31: both signs are representable.
+    #[allow(clippy::cast_possible_wrap)]
+    let q = q as i32;
+    Some(if (a ^ b) < 0 { -q } else { q })
 }
 
 /// `num * 2^frac / den`, rounded to nearest, or NaN when `den` is 0 or the
@@ -169,6 +239,14 @@ fn ratio_raw(num: u32, den: u32, frac: u32) -> i32 {
         return NAN;
     }
     // num < 2^32, frac <= 25: the shifted numerator is below 2^57.
+    if den < 1 << 31 {
+        // The 32-bit long division; a quotient of 2^31 or more is NaN.
+        return match div_u64_by_u31((u64::from(num) << frac) + u64::from(den / 2), den) {
+            #[allow(clippy::cast_possible_wrap)] // below 2^31
+            Some(q) => q as i32,
+            None => NAN,
+        };
+    }
     let (n, d) = (u64::from(num) << frac, u64::from(den));
     let q = (n + d / 2) / d;
     match i64::try_from(q) {
@@ -504,7 +582,11 @@ impl FixedRecip {
         // their format, so num * m / 2^(k + 30) is the plain quotient and
         // the result in Q.frac needs a shift of k + 30 - frac (>= 7).
         let shift = self.k + 30 - frac;
-        narrow(shift_round(i64::from(num) * self.m, shift))
+        #[allow(clippy::cast_sign_loss, clippy::cast_possible_truncation)] // 2^30 <= m <= 2^31
+        let m = self.m as u32;
+        #[allow(clippy::cast_possible_wrap)] // below 2^62
+        let p = mul_u32_wide(num.unsigned_abs(), m) as i64;
+        narrow(shift_round(if num < 0 { -p } else { p }, shift))
     }
 }
 
