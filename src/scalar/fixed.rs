@@ -138,16 +138,6 @@ fn mul_u32_wide(a: u32, b: u32) -> u64 {
     (u64::from(hi) << 32) | u64::from(lo)
 }
 
-/// The exact product of two `i32` as an `i64` (see [`mul_u32_wide`]);
-/// neither operand may be `i32::MIN` (the NaN value, excluded by every
-/// caller), so the magnitude is below 2^62.
-#[inline]
-fn mul_i32_wide(a: i32, b: i32) -> i64 {
-    #[allow(clippy::cast_possible_wrap)] // below 2^62
-    let p = mul_u32_wide(a.unsigned_abs(), b.unsigned_abs()) as i64;
-    if (a ^ b) < 0 { -p } else { p }
-}
-
 /// `floor(n / d)` when it is below 2^31, else `None`; `0 < d < 2^31`.
 ///
 /// Restoring (shift-and-subtract) long division, one quotient bit per
@@ -198,20 +188,58 @@ fn div_round(n: i64, d: i64) -> i64 {
 }
 
 /// Shared operator bodies for both formats (`F` fraction bits).
+/// 32-bit checked sum: the exact sum when it is representable, else NaN
+/// (a wrapped sum is detected by `checked_add`, the reserved value by the
+/// comparison).
 #[inline]
 fn add_raw(a: i32, b: i32) -> i32 {
-    if a == NAN || b == NAN { NAN } else { narrow(i64::from(a) + i64::from(b)) }
+    if a == NAN || b == NAN {
+        return NAN;
+    }
+    a.checked_add(b).unwrap_or(NAN)
 }
 
+/// 32-bit checked difference, as [`add_raw`].
 #[inline]
 fn sub_raw(a: i32, b: i32) -> i32 {
-    if a == NAN || b == NAN { NAN } else { narrow(i64::from(a) - i64::from(b)) }
+    if a == NAN || b == NAN {
+        return NAN;
+    }
+    a.checked_sub(b).unwrap_or(NAN)
 }
 
-/// `a * b >> shift`, rounded; `|a * b| < 2^62`.
+/// `a * b >> shift`, rounded to nearest with ties towards +inf, or NaN
+/// when out of range; `shift` is 1..=31.
+///
+/// The magnitude product `P = |a| |b| < 2^62` comes from
+/// [`mul_u32_wide`] as two words. Rounding `+-P / 2^s` to nearest, ties
+/// up, is `sign * floor((P + 2^(s-1) - neg) / 2^s)` with `neg` 1 for a
+/// negative product (`floor((h - P) / 2^s) = -floor((P + h - 1) / 2^s)`),
+/// so the whole rounding runs on the magnitude in 32-bit words, with the
+/// same result as the 64-bit signed form. The quotient is representable
+/// exactly when it is below 2^31, i.e. when the high word is below
+/// `2^(s-1)`.
 #[inline]
 fn mul_raw(a: i32, b: i32, shift: u32) -> i32 {
-    if a == NAN || b == NAN { NAN } else { narrow(shift_round(mul_i32_wide(a, b), shift)) }
+    if a == NAN || b == NAN {
+        return NAN;
+    }
+    let neg = (a ^ b) < 0;
+    let p = mul_u32_wide(a.unsigned_abs(), b.unsigned_abs());
+    #[allow(clippy::cast_possible_truncation)]
+    let (hi, lo) = ((p >> 32) as u32, p as u32);
+    // Below 2^31: the rounding term.
+    let c = (1u32 << (shift - 1)) - u32::from(neg);
+    let (lo, carry) = lo.overflowing_add(c);
+    // hi < 2^30: no overflow.
+    let hi = hi + u32::from(carry);
+    if hi >= 1 << (shift - 1) {
+        return NAN;
+    }
+    // Below 2^31 by the test above.
+    #[allow(clippy::cast_possible_wrap)]
+    let q = ((hi << (32 - shift)) | (lo >> shift)) as i32;
+    if neg { -q } else { q }
 }
 
 /// `(a << frac) / b`, rounded, or `None`.
@@ -713,6 +741,51 @@ mod tests {
     }
 
     const LSB: f64 = 1.0 / 33_554_432.0;
+
+    /// Operands for the word-level checks: edge values and a
+    /// pseudo-random sweep (a 32-bit linear congruential generator,
+    /// constants from Numerical Recipes, 2nd ed., section 7.1).
+    fn operands() -> impl Iterator<Item = i32> {
+        let edges = [0, 1, -1, 2, -2, 0xFFFF, -0xFFFF, 0x10000, -0x10000, i32::MAX, -i32::MAX, 1 << 25, -(1 << 25)];
+        let mut x = 12_345u32;
+        let sweep = (0..3000).map(move |i| {
+            x = x.wrapping_mul(1_664_525).wrapping_add(1_013_904_223);
+            // Spread the magnitudes: shift right by 0..=30 bits.
+            #[allow(clippy::cast_possible_wrap)]
+            let v = (x as i32) >> (i % 31);
+            if v == NAN { 0 } else { v }
+        });
+        edges.into_iter().chain(sweep)
+    }
+
+    #[test]
+    fn word_level_products_and_quotients_match_64_bit_arithmetic() {
+        for a in operands() {
+            for b in operands().step_by(7) {
+                let p = i64::from(a) * i64::from(b);
+                assert_eq!(mul_u32_wide(a.unsigned_abs(), b.unsigned_abs()), p.unsigned_abs());
+                for shift in [FRAC, WIDE_FRAC] {
+                    assert_eq!(mul_raw(a, b, shift), narrow(shift_round(p, shift)), "{a} * {b} >> {shift}");
+                }
+                for frac in [FRAC, WIDE_FRAC] {
+                    let want = if b == 0 {
+                        None
+                    } else {
+                        let (n, d) = (i64::from(a) << frac, i64::from(b));
+                        let q = narrow(if d > 0 { div_round(n, d) } else { div_round(-n, -d) });
+                        if q == NAN { None } else { Some(q) }
+                    };
+                    assert_eq!(div_raw(a, b, frac), want, "{a} / {b} at {frac}");
+                }
+            }
+        }
+        assert_eq!(add_raw(i32::MAX, 1), NAN);
+        assert_eq!(sub_raw(-i32::MAX, 1), NAN);
+        assert_eq!(add_raw(-(1 << 30), -(1 << 30)), NAN);
+        assert_eq!(add_raw(i32::MAX, -i32::MAX), 0);
+        assert_eq!(mul_raw(NAN, 0, FRAC), NAN);
+        assert_eq!(div_raw(1, NAN, FRAC), None);
+    }
 
     #[test]
     fn products_and_quotients_round_to_nearest() {
