@@ -10,7 +10,12 @@
 //!   mode, after J. E. Volder, "The CORDIC Trigonometric Computing
 //!   Technique", IRE Transactions on Electronic Computers EC-8(3), 1959.
 //!   Shifts, additions and a table of `atan(2^-i)`: no multiplication in
-//!   the iterations and no division anywhere.
+//!   the iterations and no divide instruction. Both stop about half way
+//!   and finish the small angle left in one step (the standard CORDIC
+//!   shortcut: below 2^-n the arc tangent and the sine equal their
+//!   argument to within the cube of it): `atan2` as a quotient by a fixed
+//!   20-step long division, `sin_cos` as one first-order rotation with
+//!   two 16-bit-split multiplications.
 //!
 //! Every loop has a constant trip count; nothing here can overflow (each
 //! bound is stated beside the operation) and nothing panics. The error
@@ -24,11 +29,13 @@
 pub const SQRT_MAX_ERROR_LSB: f64 = 0.5;
 /// Largest error of the fixed-point `atan2` in LSBs of Q7.25, asserted
 /// over all octants and magnitudes from one LSB to the largest
-/// representable; the largest seen is 1.0 LSB (3.0e-8 rad).
+/// representable; the largest seen is 0.85 LSB (2.5e-8 rad; 1.0 LSB
+/// with the earlier 28 CORDIC steps and no final division).
 pub const ATAN2_MAX_ERROR_LSB: f64 = 2.0;
 /// Largest error of either output of the fixed-point `sin_cos` in LSBs of
 /// Q7.25, asserted over the whole representable range; the largest seen
-/// is 0.79 LSB (2.3e-8).
+/// is 0.87 LSB (2.6e-8; 0.79 LSB with the earlier 30 steps and no
+/// first-order rest rotation).
 pub const SIN_COS_MAX_ERROR_LSB: f64 = 1.5;
 
 /// The reserved "not a number" raw value.
@@ -74,14 +81,23 @@ const ATAN_Q29: [i32; 30] = [
 ];
 
 /// Iterations of the vectoring CORDIC. After `n` steps the angle left is
-/// below `atan(2^-(n-1))`: 2^-27, an eighth of an output LSB.
-const ATAN2_STEPS: usize = 28;
-/// Iterations of the rotating CORDIC (all of the table): residual angle
-/// below 2^-29.
-const SIN_COS_STEPS: usize = ATAN_Q29.len();
+/// below `atan(2^-(n-1))`, 2^-10 for 11 steps; that rest is then taken as
+/// the quotient `y / x` (see [`atan2`]), whose difference from the arc
+/// tangent, `t^3 / 3 < 2^-31.5`, is below a fiftieth of an output LSB.
+const ATAN2_STEPS: usize = 11;
+/// Quotient bits of the final `y / x` of [`atan2`]: `|y| / x < 2^-9`
+/// (the rest angle below 2^-10 plus the rounding of the steps), so the
+/// quotient in Q3.29 is below 2^20.
+const ATAN2_REST_BITS: u32 = 20;
+/// Iterations of the rotating CORDIC: residual angle below
+/// `atan(2^-15) < 2^-15`, then one first-order rotation by the rest (see
+/// [`sin_cos`]).
+const SIN_COS_STEPS: usize = 16;
 
-/// `round(2^30 * prod_{i<30} 1/sqrt(1 + 2^-2i))`, the inverse CORDIC gain
-/// for [`SIN_COS_STEPS`] steps in Q1.30; checked by `cordic_gain_matches`.
+/// `round(2^30 * prod_{i<16} 1/sqrt(1 + 2^-2i))`, the inverse CORDIC gain
+/// for [`SIN_COS_STEPS`] steps in Q1.30 (the same integer as for all 30
+/// table entries: the later factors differ from 1 by less than 2^-31);
+/// checked by `cordic_gain_and_constants_match`.
 const INV_GAIN_Q30: i32 = 652_032_874;
 
 /// Fraction bits of the scalar (Q7.25).
@@ -145,8 +161,10 @@ pub(crate) fn sqrt(x: i32) -> i32 {
 /// * Method: scale `(x, y)` by a power of two so the larger magnitude lies
 ///   in `[2^28, 2^29)` (the angle does not change), turn the vector into
 ///   the right half-plane (adding `+-pi` to the result), then
-///   [`ATAN2_STEPS`] CORDIC vectoring steps drive `y` to zero while the
-///   table angles add up to the result in Q3.29. The CORDIC gain grows the
+///   [`ATAN2_STEPS`] CORDIC vectoring steps drive `y` towards zero while
+///   the table angles add up to the result in Q3.29; the small angle left
+///   is `atan(y / x) = y / x` to within `(y / x)^3 / 3`, found by a
+///   fixed 20-step long division. The CORDIC gain grows the
 ///   vector to at most `1.647 * sqrt(2) * 2^29 < 2^31`, so no step can
 ///   overflow. The sum `+-pi` is clamped into `[-pi, pi]` (explicit wrap).
 /// * Error: [`ATAN2_MAX_ERROR_LSB`].
@@ -194,6 +212,30 @@ pub(crate) fn atan2(y: i32, x: i32) -> i32 {
             z -= step;
         }
     }
+    // The rest angle atan(vy / vx), |vy| / vx < 2^-9, as the quotient
+    // vy * 2^29 / vx (Q3.29): restoring long division of |vy| * 2^9 (below
+    // vx) by vx, one bit per step, in 32 bits (vx < 1.65 * sqrt2 * 2^29 <
+    // 2^31, so the doubled remainder stays below 2^32). vx > 2^28 after
+    // the first step; max(.., 1) keeps the division defined regardless.
+    #[allow(clippy::cast_sign_loss)] // vx > 0 after the steps
+    let den = (vx.max(1)) as u32;
+    let num = vy.unsigned_abs() << (ANGLE_BITS - ATAN2_REST_BITS);
+    // A rest outside the proven bound (never seen) saturates the quotient
+    // instead of producing a wrong digit.
+    let mut rem = if num < den { num } else { den - 1 };
+    let mut q = 0u32;
+    for _ in 0..ATAN2_REST_BITS {
+        rem <<= 1;
+        q <<= 1;
+        if rem >= den {
+            rem -= den;
+            q |= 1;
+        }
+    }
+    // q < 2^20.
+    #[allow(clippy::cast_possible_wrap)]
+    let q = q as i32;
+    z += if vy >= 0 { q } else { -q };
     // |z| <= sum of the table < 1.75 rad; to Q7.25 rounding to nearest.
     let z25 = (z + (1 << (ANGLE_BITS - FRAC - 1))) >> (ANGLE_BITS - FRAC);
     let out = z25 + offset;
@@ -208,6 +250,7 @@ pub(crate) fn atan2(y: i32, x: i32) -> i32 {
 ///   `k * 2 pi`, `k = round(theta / (2 pi))` found with a multiplication by
 ///   `1/(2 pi)` (no division); a half-turn flip into `[-pi/2, pi/2]`; then
 ///   [`SIN_COS_STEPS`] CORDIC rotation steps from `(1/gain, 0)` in Q1.30,
+///   then one first-order rotation by the angle left (below 2^-15),
 ///   rounded to Q7.25. Magnitudes stay below `2^30` throughout.
 /// * Error: [`SIN_COS_MAX_ERROR_LSB`] on either output.
 ///
@@ -248,6 +291,15 @@ pub(crate) fn sin_cos(theta: i32) -> (i32, i32) {
             r += step;
         }
     }
+    // The rest |r| < 2^-15 rad (raw below 2^14) as a first-order rotation:
+    // x - y r, y + x r. Dropping r^2 / 2 and r^3 / 6 costs below 2^-31,
+    // under a sixtieth of an output LSB. v * r / 2^29 splits v into its
+    // high half (|v >> 16| <= 2^14) and low half (below 2^16) so each
+    // partial product stays below 2^30.
+    let rot = |v: i32| (((v >> 16) * r) >> (ANGLE_BITS - 16)) + (((v & 0xFFFF) * r) >> ANGLE_BITS);
+    let (dx, dy) = (rot(y), rot(x));
+    x -= dx;
+    y += dy;
     // Q1.30 to Q7.25, rounding to nearest; |x|, |y| <= 2^30.
     let half = 1 << (29 - FRAC);
     let (s, c) = ((y + half) >> (30 - FRAC), (x + half) >> (30 - FRAC));
