@@ -139,11 +139,14 @@ pub(crate) fn sqrt(x: i32) -> i32 {
         rem = (rem << 2) | (y >> 30);
         y <<= 2;
         let trial = (root << 2) | 1;
-        root <<= 1;
-        if rem >= trial {
-            rem -= trial;
-            root |= 1;
-        }
+        // Branch-free select: the difference is below 2^29 + 3 when
+        // rem >= trial (rem <= 8 root + 3, trial = 4 root + 1) and wraps to
+        // at least 2^32 - 2^30 - 1 otherwise, so its top bit is the
+        // "keep rem" flag.
+        let diff = rem.wrapping_sub(trial);
+        let keep = diff >> 31;
+        rem = diff.wrapping_add(trial & keep.wrapping_neg());
+        root = (root << 1) | (keep ^ 1);
     }
     // rem = radicand - root^2; round to nearest as before.
     if rem > root {
