@@ -41,6 +41,8 @@ pub const SIN_COS_MAX_ERROR_LSB: f64 = 1.5;
 /// The reserved "not a number" raw value.
 pub(crate) const NAN: i32 = i32::MIN;
 
+use super::fixed::mul_u32_wide;
+
 /// Fraction bits of the angle accumulator (Q3.29: +-4 rad, enough for
 /// +-pi/2 plus the first rotation's overshoot).
 const ANGLE_BITS: u32 = 29;
@@ -245,6 +247,17 @@ pub(crate) fn atan2(y: i32, x: i32) -> i32 {
     out.clamp(-PI_RAW, PI_RAW)
 }
 
+/// `+-(m * c)` exactly, for `m < 2^32` and `0 <= c < 2^32`.
+#[inline]
+fn signed_wide(m: u32, c: i64, negative: bool) -> i64 {
+    #[allow(clippy::cast_possible_truncation, clippy::cast_sign_loss)] // 0 <= c < 2^32
+    let p = mul_u32_wide(m, c as u32);
+    // The callers keep the product below 2^62.
+    #[allow(clippy::cast_possible_wrap)]
+    let p = p as i64;
+    if negative { -p } else { p }
+}
+
 /// Sine and cosine of a Q7.25 angle (radians), both Q7.25.
 ///
 /// * Input: any representable angle (`|theta| < 64`); "not a number"
@@ -266,9 +279,13 @@ pub(crate) fn sin_cos(theta: i32) -> (i32, i32) {
     }
     let t = i64::from(theta);
     // |t| < 2^31 and INV_TWO_PI_Q32 < 2^30: the product is below 2^61.
-    let k = (t * INV_TWO_PI_Q32 + (1 << (31 + FRAC))) >> (32 + FRAC);
+    // Both products here come from 32 x 32 -> 64 bit partial products
+    // (a general 64-bit multiplication is a library call on a Cortex-M0).
+    let k = (signed_wide(theta.unsigned_abs(), INV_TWO_PI_Q32, theta < 0) + (1 << (31 + FRAC))) >> (32 + FRAC);
     // |k| <= 11; r in Q3.29 lies within pi (+ a rounding hair) of zero.
-    let r64 = (t << (ANGLE_BITS - FRAC)) - k * TWO_PI_Q29;
+    #[allow(clippy::cast_possible_truncation, clippy::cast_sign_loss)] // |k| <= 11
+    let k_abs = k.unsigned_abs() as u32;
+    let r64 = (t << (ANGLE_BITS - FRAC)) - signed_wide(k_abs, TWO_PI_Q29, k < 0);
     #[allow(clippy::cast_possible_truncation)] // |r64| < 1.7e9 < 2^31
     let mut r = r64 as i32;
     let half_pi = PI_Q29 / 2;

@@ -126,7 +126,7 @@ fn narrow(raw: i64) -> i32 {
 /// input (each partial product is below 2^32 and the middle sum below
 /// 3 * 2^16).
 #[inline]
-fn mul_u32_wide(a: u32, b: u32) -> u64 {
+pub(super) fn mul_u32_wide(a: u32, b: u32) -> u64 {
     let (a0, a1) = (a & 0xFFFF, a >> 16);
     let (b0, b1) = (b & 0xFFFF, b >> 16);
     let (p00, p01, p10, p11) = (a0 * b0, a0 * b1, a1 * b0, a1 * b1);
