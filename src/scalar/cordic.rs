@@ -34,8 +34,8 @@ pub const SQRT_MAX_ERROR_LSB: f64 = 0.5;
 pub const ATAN2_MAX_ERROR_LSB: f64 = 2.0;
 /// Largest error of either output of the fixed-point `sin_cos` in LSBs of
 /// Q7.25, asserted over the whole representable range; the largest seen
-/// is 0.87 LSB (2.6e-8; 0.79 LSB with the earlier 30 steps and no
-/// first-order rest rotation).
+/// is 0.96 LSB (2.9e-8; 0.79 LSB with the earlier 30 steps and no
+/// first-order rest rotation, 0.87 LSB with 16 steps and the rotation).
 pub const SIN_COS_MAX_ERROR_LSB: f64 = 1.5;
 
 /// The reserved "not a number" raw value.
@@ -92,15 +92,14 @@ const ATAN2_STEPS: usize = 11;
 /// quotient in Q3.29 is below 2^20.
 const ATAN2_REST_BITS: u32 = 20;
 /// Iterations of the rotating CORDIC: residual angle below
-/// `atan(2^-15) < 2^-15`, then one first-order rotation by the rest (see
+/// `atan(2^-13) < 2^-13`, then one first-order rotation by the rest (see
 /// [`sin_cos`]).
-const SIN_COS_STEPS: usize = 16;
+const SIN_COS_STEPS: usize = 14;
 
-/// `round(2^30 * prod_{i<16} 1/sqrt(1 + 2^-2i))`, the inverse CORDIC gain
-/// for [`SIN_COS_STEPS`] steps in Q1.30 (the same integer as for all 30
-/// table entries: the later factors differ from 1 by less than 2^-31);
-/// checked by `cordic_gain_and_constants_match`.
-const INV_GAIN_Q30: i32 = 652_032_874;
+/// `round(2^30 * prod_{i<14} 1/sqrt(1 + 2^-2i))`, the inverse CORDIC gain
+/// for [`SIN_COS_STEPS`] steps in Q1.30; checked by
+/// `cordic_gain_and_constants_match`.
+const INV_GAIN_Q30: i32 = 652_032_876;
 
 /// Fraction bits of the scalar (Q7.25).
 pub(crate) const FRAC: u32 = 25;
@@ -266,7 +265,7 @@ fn signed_wide(m: u32, c: i64, negative: bool) -> i64 {
 ///   `k * 2 pi`, `k = round(theta / (2 pi))` found with a multiplication by
 ///   `1/(2 pi)` (no division); a half-turn flip into `[-pi/2, pi/2]`; then
 ///   [`SIN_COS_STEPS`] CORDIC rotation steps from `(1/gain, 0)` in Q1.30,
-///   then one first-order rotation by the angle left (below 2^-15),
+///   then one first-order rotation by the angle left (below 2^-13),
 ///   rounded to Q7.25. Magnitudes stay below `2^30` throughout.
 /// * Error: [`SIN_COS_MAX_ERROR_LSB`] on either output.
 ///
@@ -311,12 +310,12 @@ pub(crate) fn sin_cos(theta: i32) -> (i32, i32) {
             r += step;
         }
     }
-    // The rest |r| < 2^-15 rad (raw below 2^14) as a first-order rotation:
-    // x - y r, y + x r. Dropping r^2 / 2 and r^3 / 6 costs below 2^-31,
-    // under a sixtieth of an output LSB. v * r / 2^29 splits v into its
-    // high half (|v >> 16| <= 2^14) and low half (below 2^16) so each
-    // partial product stays below 2^30.
-    let rot = |v: i32| (((v >> 16) * r) >> (ANGLE_BITS - 16)) + (((v & 0xFFFF) * r) >> ANGLE_BITS);
+    // The rest |r| < 2^-13 rad (raw below 2^16) as a first-order rotation:
+    // x - y r, y + x r. Dropping r^2 / 2 and r^3 / 6 costs below 2^-27,
+    // a quarter of an output LSB at most. v * r / 2^29 splits v into its
+    // high half (|v >> 16| <= 2^14) and the top 14 bits of its low half so
+    // each partial product stays below 2^30.
+    let rot = |v: i32| (((v >> 16) * r) >> (ANGLE_BITS - 16)) + ((((v & 0xFFFF) >> 2) * r) >> (ANGLE_BITS - 2));
     let (dx, dy) = (rot(y), rot(x));
     x -= dx;
     y += dy;
