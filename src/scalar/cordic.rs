@@ -3,14 +3,19 @@
 //! `i32::MIN` reserved as "not a number").
 //!
 //! * Square root: the binary digit-by-digit (restoring) method, one result
-//!   bit per step, 28 steps, on a 64-bit radicand; see e.g. J. W. Crenshaw,
+//!   bit per step, 28 steps, on 32-bit words; see e.g. J. W. Crenshaw,
 //!   "Integer Square Roots", Embedded Systems Programming, February 1998.
 //!   Rounded to nearest from the remainder.
 //! * `atan2`: CORDIC in vectoring mode and `sin_cos`: CORDIC in rotation
 //!   mode, after J. E. Volder, "The CORDIC Trigonometric Computing
 //!   Technique", IRE Transactions on Electronic Computers EC-8(3), 1959.
 //!   Shifts, additions and a table of `atan(2^-i)`: no multiplication in
-//!   the iterations and no division anywhere.
+//!   the iterations and no divide instruction. Both stop about half way
+//!   and finish the small angle left in one step (the standard CORDIC
+//!   shortcut: below 2^-n the arc tangent and the sine equal their
+//!   argument to within the cube of it): `atan2` as a quotient by a fixed
+//!   20-step long division, `sin_cos` as one first-order rotation with
+//!   two 16-bit-split multiplications.
 //!
 //! Every loop has a constant trip count; nothing here can overflow (each
 //! bound is stated beside the operation) and nothing panics. The error
@@ -24,15 +29,19 @@
 pub const SQRT_MAX_ERROR_LSB: f64 = 0.5;
 /// Largest error of the fixed-point `atan2` in LSBs of Q7.25, asserted
 /// over all octants and magnitudes from one LSB to the largest
-/// representable; the largest seen is 1.0 LSB (3.0e-8 rad).
+/// representable; the largest seen is 0.85 LSB (2.5e-8 rad; 1.0 LSB
+/// with the earlier 28 CORDIC steps and no final division).
 pub const ATAN2_MAX_ERROR_LSB: f64 = 2.0;
 /// Largest error of either output of the fixed-point `sin_cos` in LSBs of
 /// Q7.25, asserted over the whole representable range; the largest seen
-/// is 0.79 LSB (2.3e-8).
+/// is 0.96 LSB (2.9e-8; 0.79 LSB with the earlier 30 steps and no
+/// first-order rest rotation, 0.87 LSB with 16 steps and the rotation).
 pub const SIN_COS_MAX_ERROR_LSB: f64 = 1.5;
 
 /// The reserved "not a number" raw value.
 pub(crate) const NAN: i32 = i32::MIN;
+
+use super::fixed::mul_u32_wide;
 
 /// Fraction bits of the angle accumulator (Q3.29: +-4 rad, enough for
 /// +-pi/2 plus the first rotation's overshoot).
@@ -74,15 +83,23 @@ const ATAN_Q29: [i32; 30] = [
 ];
 
 /// Iterations of the vectoring CORDIC. After `n` steps the angle left is
-/// below `atan(2^-(n-1))`: 2^-27, an eighth of an output LSB.
-const ATAN2_STEPS: usize = 28;
-/// Iterations of the rotating CORDIC (all of the table): residual angle
-/// below 2^-29.
-const SIN_COS_STEPS: usize = ATAN_Q29.len();
+/// below `atan(2^-(n-1))`, 2^-10 for 11 steps; that rest is then taken as
+/// the quotient `y / x` (see [`atan2`]), whose difference from the arc
+/// tangent, `t^3 / 3 < 2^-31.5`, is below a fiftieth of an output LSB.
+const ATAN2_STEPS: usize = 11;
+/// Quotient bits of the final `y / x` of [`atan2`]: `|y| / x < 2^-9`
+/// (the rest angle below 2^-10 plus the rounding of the steps), so the
+/// quotient in Q3.29 is below 2^20.
+const ATAN2_REST_BITS: u32 = 20;
+/// Iterations of the rotating CORDIC: residual angle below
+/// `atan(2^-13) < 2^-13`, then one first-order rotation by the rest (see
+/// [`sin_cos`]).
+const SIN_COS_STEPS: usize = 14;
 
-/// `round(2^30 * prod_{i<30} 1/sqrt(1 + 2^-2i))`, the inverse CORDIC gain
-/// for [`SIN_COS_STEPS`] steps in Q1.30; checked by `cordic_gain_matches`.
-const INV_GAIN_Q30: i32 = 652_032_874;
+/// `round(2^30 * prod_{i<14} 1/sqrt(1 + 2^-2i))`, the inverse CORDIC gain
+/// for [`SIN_COS_STEPS`] steps in Q1.30; checked by
+/// `cordic_gain_and_constants_match`.
+const INV_GAIN_Q30: i32 = 652_032_876;
 
 /// Fraction bits of the scalar (Q7.25).
 pub(crate) const FRAC: u32 = 25;
@@ -98,7 +115,7 @@ const INV_TWO_PI_Q32: i64 = 683_565_276;
 /// * Input: `x >= 0` (any representable value, up to 64). A negative
 ///   input or "not a number" returns "not a number".
 /// * Method: digit-by-digit on the 56-bit radicand `x * 2^25` (whose root
-///   is the Q7.25 root), 28 steps, then round to nearest: the remainder
+///   is the Q7.25 root), 28 steps on 32-bit words, then round to nearest: the remainder
 ///   `x*2^25 - r^2` exceeds `r` exactly when the root is at least `r + 1/2`.
 /// * Error: at most 0.5 LSB (the exact root, rounded).
 ///
@@ -109,27 +126,35 @@ pub(crate) fn sqrt(x: i32) -> i32 {
     if x < 0 {
         return NAN;
     }
-    // x < 2^31, so the radicand is below 2^56 and the root below 2^28.
+    // The radicand x * 2^25 equals y * 2^24 with y = 2x < 2^32: its 28
+    // base-4 digits are the 16 of y, top first, then 12 zeros. Bringing
+    // them down one per step keeps every quantity in 32 bits (a 64-bit
+    // remainder costs several instructions per operation on a Cortex-M0).
     #[allow(clippy::cast_sign_loss)] // x >= 0
-    let mut rem = (x as u64) << FRAC;
-    let mut root: u64 = 0;
-    // bit runs over the even powers 2^54, 2^52, ..., 2^0.
-    let mut bit: u64 = 1 << 54;
+    let mut y = (x as u32) << 1;
+    let (mut rem, mut root) = (0u32, 0u32);
     for _ in 0..28 {
-        let trial = root + bit;
-        if rem >= trial {
-            rem -= trial;
-            root = (root >> 1) + bit;
-        } else {
-            root >>= 1;
-        }
-        bit >>= 2;
+        // Invariant: rem <= 2 * root and root < 2^28 (the root of a
+        // radicand below 2^56), so rem < 2^29 + 1 and the shifted
+        // remainder below 2^31 + 8; the trial value is below 2^30 + 1.
+        rem = (rem << 2) | (y >> 30);
+        y <<= 2;
+        let trial = (root << 2) | 1;
+        // Branch-free select: the difference is below 2^29 + 3 when
+        // rem >= trial (rem <= 8 root + 3, trial = 4 root + 1) and wraps to
+        // at least 2^32 - 2^30 - 1 otherwise, so its top bit is the
+        // "keep rem" flag.
+        let diff = rem.wrapping_sub(trial);
+        let keep = diff >> 31;
+        rem = diff.wrapping_add(trial & keep.wrapping_neg());
+        root = (root << 1) | (keep ^ 1);
     }
+    // rem = radicand - root^2; round to nearest as before.
     if rem > root {
         root += 1;
     }
     // root <= 2^28 < 2^31.
-    #[allow(clippy::cast_possible_truncation)]
+    #[allow(clippy::cast_possible_wrap)]
     let r = root as i32;
     r
 }
@@ -140,8 +165,10 @@ pub(crate) fn sqrt(x: i32) -> i32 {
 /// * Method: scale `(x, y)` by a power of two so the larger magnitude lies
 ///   in `[2^28, 2^29)` (the angle does not change), turn the vector into
 ///   the right half-plane (adding `+-pi` to the result), then
-///   [`ATAN2_STEPS`] CORDIC vectoring steps drive `y` to zero while the
-///   table angles add up to the result in Q3.29. The CORDIC gain grows the
+///   [`ATAN2_STEPS`] CORDIC vectoring steps drive `y` towards zero while
+///   the table angles add up to the result in Q3.29; the small angle left
+///   is `atan(y / x) = y / x` to within `(y / x)^3 / 3`, found by a
+///   fixed 20-step long division. The CORDIC gain grows the
 ///   vector to at most `1.647 * sqrt(2) * 2^29 < 2^31`, so no step can
 ///   overflow. The sum `+-pi` is clamped into `[-pi, pi]` (explicit wrap).
 /// * Error: [`ATAN2_MAX_ERROR_LSB`].
@@ -189,10 +216,45 @@ pub(crate) fn atan2(y: i32, x: i32) -> i32 {
             z -= step;
         }
     }
+    // The rest angle atan(vy / vx), |vy| / vx < 2^-9, as the quotient
+    // vy * 2^29 / vx (Q3.29): restoring long division of |vy| * 2^9 (below
+    // vx) by vx, one bit per step, in 32 bits (vx < 1.65 * sqrt2 * 2^29 <
+    // 2^31, so the doubled remainder stays below 2^32). vx > 2^28 after
+    // the first step; max(.., 1) keeps the division defined regardless.
+    #[allow(clippy::cast_sign_loss)] // vx > 0 after the steps
+    let den = (vx.max(1)) as u32;
+    let num = vy.unsigned_abs() << (ANGLE_BITS - ATAN2_REST_BITS);
+    // A rest outside the proven bound (never seen) saturates the quotient
+    // instead of producing a wrong digit.
+    let mut rem = if num < den { num } else { den - 1 };
+    let mut q = 0u32;
+    for _ in 0..ATAN2_REST_BITS {
+        rem <<= 1;
+        q <<= 1;
+        if rem >= den {
+            rem -= den;
+            q |= 1;
+        }
+    }
+    // q < 2^20.
+    #[allow(clippy::cast_possible_wrap)]
+    let q = q as i32;
+    z += if vy >= 0 { q } else { -q };
     // |z| <= sum of the table < 1.75 rad; to Q7.25 rounding to nearest.
     let z25 = (z + (1 << (ANGLE_BITS - FRAC - 1))) >> (ANGLE_BITS - FRAC);
     let out = z25 + offset;
     out.clamp(-PI_RAW, PI_RAW)
+}
+
+/// `+-(m * c)` exactly, for `m < 2^32` and `0 <= c < 2^32`.
+#[inline]
+fn signed_wide(m: u32, c: i64, negative: bool) -> i64 {
+    #[allow(clippy::cast_possible_truncation, clippy::cast_sign_loss)] // 0 <= c < 2^32
+    let p = mul_u32_wide(m, c as u32);
+    // The callers keep the product below 2^62.
+    #[allow(clippy::cast_possible_wrap)]
+    let p = p as i64;
+    if negative { -p } else { p }
 }
 
 /// Sine and cosine of a Q7.25 angle (radians), both Q7.25.
@@ -203,6 +265,7 @@ pub(crate) fn atan2(y: i32, x: i32) -> i32 {
 ///   `k * 2 pi`, `k = round(theta / (2 pi))` found with a multiplication by
 ///   `1/(2 pi)` (no division); a half-turn flip into `[-pi/2, pi/2]`; then
 ///   [`SIN_COS_STEPS`] CORDIC rotation steps from `(1/gain, 0)` in Q1.30,
+///   then one first-order rotation by the angle left (below 2^-13),
 ///   rounded to Q7.25. Magnitudes stay below `2^30` throughout.
 /// * Error: [`SIN_COS_MAX_ERROR_LSB`] on either output.
 ///
@@ -215,9 +278,13 @@ pub(crate) fn sin_cos(theta: i32) -> (i32, i32) {
     }
     let t = i64::from(theta);
     // |t| < 2^31 and INV_TWO_PI_Q32 < 2^30: the product is below 2^61.
-    let k = (t * INV_TWO_PI_Q32 + (1 << (31 + FRAC))) >> (32 + FRAC);
+    // Both products here come from 32 x 32 -> 64 bit partial products
+    // (a general 64-bit multiplication is a library call on a Cortex-M0).
+    let k = (signed_wide(theta.unsigned_abs(), INV_TWO_PI_Q32, theta < 0) + (1 << (31 + FRAC))) >> (32 + FRAC);
     // |k| <= 11; r in Q3.29 lies within pi (+ a rounding hair) of zero.
-    let r64 = (t << (ANGLE_BITS - FRAC)) - k * TWO_PI_Q29;
+    #[allow(clippy::cast_possible_truncation, clippy::cast_sign_loss)] // |k| <= 11
+    let k_abs = k.unsigned_abs() as u32;
+    let r64 = (t << (ANGLE_BITS - FRAC)) - signed_wide(k_abs, TWO_PI_Q29, k < 0);
     #[allow(clippy::cast_possible_truncation)] // |r64| < 1.7e9 < 2^31
     let mut r = r64 as i32;
     let half_pi = PI_Q29 / 2;
@@ -243,6 +310,15 @@ pub(crate) fn sin_cos(theta: i32) -> (i32, i32) {
             r += step;
         }
     }
+    // The rest |r| < 2^-13 rad (raw below 2^16) as a first-order rotation:
+    // x - y r, y + x r. Dropping r^2 / 2 and r^3 / 6 costs below 2^-27,
+    // a quarter of an output LSB at most. v * r / 2^29 splits v into its
+    // high half (|v >> 16| <= 2^14) and the top 14 bits of its low half so
+    // each partial product stays below 2^30.
+    let rot = |v: i32| (((v >> 16) * r) >> (ANGLE_BITS - 16)) + ((((v & 0xFFFF) >> 2) * r) >> (ANGLE_BITS - 2));
+    let (dx, dy) = (rot(y), rot(x));
+    x -= dx;
+    y += dy;
     // Q1.30 to Q7.25, rounding to nearest; |x|, |y| <= 2^30.
     let half = 1 << (29 - FRAC);
     let (s, c) = ((y + half) >> (30 - FRAC), (x + half) >> (30 - FRAC));

@@ -54,8 +54,22 @@
 //! * Measured worst case against the independent f64 reference (host
 //!   tests, `host-tests/tests/fixed_point.rs`, lower arms 200-2000 mm,
 //!   9915 guarded poses of 25 geometries plus random ones): joint angle
-//!   1.07 urad, platform position 3.5 um (at the 2000 mm arm; the error
+//!   1.04 urad, platform position 3.55 um (at the 2000 mm arm; the error
 //!   in lower-arm units is below 1.8e-6, so it scales with the arm).
+//!
+//! # Cost on a Cortex-M0 (no FPU, 32 x 32 -> 32 bit multiply, no divide)
+//! No operation here calls the 64-bit library multiply or divide:
+//! products are four 16 x 16 bit partial products with the rounding done
+//! on 32-bit words, quotients a fixed 31-step long division on 32-bit
+//! words, the square root a 28-step digit-by-digit loop on 32-bit words,
+//! and `atan2` / `sin_cos` CORDIC loops cut short with a one-step finish
+//! (see `cordic.rs`). Measured with `ci/target-report.sh` (QEMU
+//! instruction counts, worst case over the probe's poses): guarded inverse
+//! kinematics 13 424 -> 10 421 instructions, forward 13 115 -> 10 107.
+//! What remains is mostly the straight-line checked arithmetic of the
+//! solvers and guards (about 40 instructions per checked product), the
+//! three square roots and the divisions (about 350 instructions each) and
+//! the three `atan2` (about 450 each).
 //!
 //! # Overflow policy
 //! Every operator is checked and never panics: `+`, `-`, `*` (64-bit
@@ -117,6 +131,62 @@ fn narrow(raw: i64) -> i32 {
     }
 }
 
+/// The exact product of two `u32` as a `u64`, from four 16 x 16 -> 32
+/// bit partial products (schoolbook multiplication, e.g. D. E. Knuth, The
+/// Art of Computer Programming vol. 2, 4.3.1, algorithm M with base
+/// 2^16). A Cortex-M0 multiplies 32 x 32 -> 32 bits only, so a plain
+/// `u64` product there is a call to the general 64 x 64 bit library
+/// routine; this form is four `MULS` and a few additions. Exact for every
+/// input (each partial product is below 2^32 and the middle sum below
+/// 3 * 2^16).
+#[inline]
+pub(super) fn mul_u32_wide(a: u32, b: u32) -> u64 {
+    let (a0, a1) = (a & 0xFFFF, a >> 16);
+    let (b0, b1) = (b & 0xFFFF, b >> 16);
+    let (p00, p01, p10, p11) = (a0 * b0, a0 * b1, a1 * b0, a1 * b1);
+    // Each term below 2^16: the sum is below 3 * 2^16.
+    let mid = (p00 >> 16) + (p01 & 0xFFFF) + (p10 & 0xFFFF);
+    let lo = (mid << 16) | (p00 & 0xFFFF);
+    // The full product is below 2^64, so its high word cannot overflow.
+    let hi = p11 + (p01 >> 16) + (p10 >> 16) + (mid >> 16);
+    (u64::from(hi) << 32) | u64::from(lo)
+}
+
+/// `floor(n / d)` when it is below 2^31, else `None`; `0 < d < 2^31`.
+///
+/// Restoring (shift-and-subtract) long division, one quotient bit per
+/// step, e.g. D. E. Knuth, The Art of Computer Programming vol. 2, 4.3.1.
+/// The bits of `n` above the 31 lowest form the first partial remainder
+/// (the quotient fits 31 bits exactly when that is below `d`); then a
+/// fixed 31 steps bring down one bit each. Every quantity stays in 32 bits
+/// (the remainder below `2d < 2^32`): a Cortex-M0 has no divide
+/// instruction, and a general 64-bit division there is a long library
+/// call. Exact.
+#[inline]
+fn div_u64_by_u31(n: u64, d: u32) -> Option<u32> {
+    if n >> 31 >= u64::from(d) {
+        return None;
+    }
+    // Below d < 2^31.
+    #[allow(clippy::cast_possible_truncation)]
+    let mut rem = (n >> 31) as u32;
+    // The 31 low bits of n, top first.
+    #[allow(clippy::cast_possible_truncation)]
+    let mut low = (n as u32) << 1;
+    let mut q = 0u32;
+    for _ in 0..31 {
+        // rem < d, so the shifted value is below 2d < 2^32.
+        rem = (rem << 1) | (low >> 31);
+        low <<= 1;
+        q <<= 1;
+        if rem >= d {
+            rem -= d;
+            q |= 1;
+        }
+    }
+    Some(q)
+}
+
 /// `(p + 2^(s-1)) >> s`: a shift rounding to nearest, ties towards +inf.
 /// `s` is 1..=62 at every call site, and `|p| < 2^62` there.
 #[inline]
@@ -132,20 +202,58 @@ fn div_round(n: i64, d: i64) -> i64 {
 }
 
 /// Shared operator bodies for both formats (`F` fraction bits).
+/// 32-bit checked sum: the exact sum when it is representable, else NaN
+/// (a wrapped sum is detected by `checked_add`, the reserved value by the
+/// comparison).
 #[inline]
 fn add_raw(a: i32, b: i32) -> i32 {
-    if a == NAN || b == NAN { NAN } else { narrow(i64::from(a) + i64::from(b)) }
+    if a == NAN || b == NAN {
+        return NAN;
+    }
+    a.checked_add(b).unwrap_or(NAN)
 }
 
+/// 32-bit checked difference, as [`add_raw`].
 #[inline]
 fn sub_raw(a: i32, b: i32) -> i32 {
-    if a == NAN || b == NAN { NAN } else { narrow(i64::from(a) - i64::from(b)) }
+    if a == NAN || b == NAN {
+        return NAN;
+    }
+    a.checked_sub(b).unwrap_or(NAN)
 }
 
-/// `a * b >> shift`, rounded; `|a * b| < 2^62`.
+/// `a * b >> shift`, rounded to nearest with ties towards +inf, or NaN
+/// when out of range; `shift` is 1..=31.
+///
+/// The magnitude product `P = |a| |b| < 2^62` comes from
+/// [`mul_u32_wide`] as two words. Rounding `+-P / 2^s` to nearest, ties
+/// up, is `sign * floor((P + 2^(s-1) - neg) / 2^s)` with `neg` 1 for a
+/// negative product (`floor((h - P) / 2^s) = -floor((P + h - 1) / 2^s)`),
+/// so the whole rounding runs on the magnitude in 32-bit words, with the
+/// same result as the 64-bit signed form. The quotient is representable
+/// exactly when it is below 2^31, i.e. when the high word is below
+/// `2^(s-1)`.
 #[inline]
 fn mul_raw(a: i32, b: i32, shift: u32) -> i32 {
-    if a == NAN || b == NAN { NAN } else { narrow(shift_round(i64::from(a) * i64::from(b), shift)) }
+    if a == NAN || b == NAN {
+        return NAN;
+    }
+    let neg = (a ^ b) < 0;
+    let p = mul_u32_wide(a.unsigned_abs(), b.unsigned_abs());
+    #[allow(clippy::cast_possible_truncation)]
+    let (hi, lo) = ((p >> 32) as u32, p as u32);
+    // Below 2^31: the rounding term.
+    let c = (1u32 << (shift - 1)) - u32::from(neg);
+    let (lo, carry) = lo.overflowing_add(c);
+    // hi < 2^30: no overflow.
+    let hi = hi + u32::from(carry);
+    if hi >= 1 << (shift - 1) {
+        return NAN;
+    }
+    // Below 2^31 by the test above.
+    #[allow(clippy::cast_possible_wrap)]
+    let q = ((hi << (32 - shift)) | (lo >> shift)) as i32;
+    if neg { -q } else { q }
 }
 
 /// `(a << frac) / b`, rounded, or `None`.
@@ -154,11 +262,15 @@ fn div_raw(a: i32, b: i32, frac: u32) -> Option<i32> {
     if a == NAN || b == NAN || b == 0 {
         return None;
     }
-    // |a << frac| < 2^55; |b| < 2^31.
-    let (n, d) = (i64::from(a) << frac, i64::from(b));
-    let q = if d > 0 { div_round(n, d) } else { div_round(-n, -d) };
-    let q = narrow(q);
-    if q == NAN { None } else { Some(q) }
+    // Rounded to nearest, ties away from zero, is symmetric in the signs:
+    // round(|a| 2^frac / |b|) = floor((|a| 2^frac + floor(|b| / 2)) / |b|),
+    // negated when the signs differ. |a| 2^frac < 2^56; 0 < |b| < 2^31.
+    let (ua, d) = (a.unsigned_abs(), b.unsigned_abs());
+    let q = div_u64_by_u31((u64::from(ua) << frac) + u64::from(d / 2), d)?;
+    // q < 2^31: both signs are representable.
+    #[allow(clippy::cast_possible_wrap)]
+    let q = q as i32;
+    Some(if (a ^ b) < 0 { -q } else { q })
 }
 
 /// `num * 2^frac / den`, rounded to nearest, or NaN when `den` is 0 or the
@@ -169,6 +281,14 @@ fn ratio_raw(num: u32, den: u32, frac: u32) -> i32 {
         return NAN;
     }
     // num < 2^32, frac <= 25: the shifted numerator is below 2^57.
+    if den < 1 << 31 {
+        // The 32-bit long division; a quotient of 2^31 or more is NaN.
+        return match div_u64_by_u31((u64::from(num) << frac) + u64::from(den / 2), den) {
+            #[allow(clippy::cast_possible_wrap)] // below 2^31
+            Some(q) => q as i32,
+            None => NAN,
+        };
+    }
     let (n, d) = (u64::from(num) << frac, u64::from(den));
     let q = (n + d / 2) / d;
     match i64::try_from(q) {
@@ -504,7 +624,11 @@ impl FixedRecip {
         // their format, so num * m / 2^(k + 30) is the plain quotient and
         // the result in Q.frac needs a shift of k + 30 - frac (>= 7).
         let shift = self.k + 30 - frac;
-        narrow(shift_round(i64::from(num) * self.m, shift))
+        #[allow(clippy::cast_sign_loss, clippy::cast_possible_truncation)] // 2^30 <= m <= 2^31
+        let m = self.m as u32;
+        #[allow(clippy::cast_possible_wrap)] // below 2^62
+        let p = mul_u32_wide(num.unsigned_abs(), m) as i64;
+        narrow(shift_round(if num < 0 { -p } else { p }, shift))
     }
 }
 
@@ -631,6 +755,51 @@ mod tests {
     }
 
     const LSB: f64 = 1.0 / 33_554_432.0;
+
+    /// Operands for the word-level checks: edge values and a
+    /// pseudo-random sweep (a 32-bit linear congruential generator,
+    /// constants from Numerical Recipes, 2nd ed., section 7.1).
+    fn operands() -> impl Iterator<Item = i32> {
+        let edges = [0, 1, -1, 2, -2, 0xFFFF, -0xFFFF, 0x10000, -0x10000, i32::MAX, -i32::MAX, 1 << 25, -(1 << 25)];
+        let mut x = 12_345u32;
+        let sweep = (0..3000).map(move |i| {
+            x = x.wrapping_mul(1_664_525).wrapping_add(1_013_904_223);
+            // Spread the magnitudes: shift right by 0..=30 bits.
+            #[allow(clippy::cast_possible_wrap)]
+            let v = (x as i32) >> (i % 31);
+            if v == NAN { 0 } else { v }
+        });
+        edges.into_iter().chain(sweep)
+    }
+
+    #[test]
+    fn word_level_products_and_quotients_match_64_bit_arithmetic() {
+        for a in operands() {
+            for b in operands().step_by(7) {
+                let p = i64::from(a) * i64::from(b);
+                assert_eq!(mul_u32_wide(a.unsigned_abs(), b.unsigned_abs()), p.unsigned_abs());
+                for shift in [FRAC, WIDE_FRAC] {
+                    assert_eq!(mul_raw(a, b, shift), narrow(shift_round(p, shift)), "{a} * {b} >> {shift}");
+                }
+                for frac in [FRAC, WIDE_FRAC] {
+                    let want = if b == 0 {
+                        None
+                    } else {
+                        let (n, d) = (i64::from(a) << frac, i64::from(b));
+                        let q = narrow(if d > 0 { div_round(n, d) } else { div_round(-n, -d) });
+                        if q == NAN { None } else { Some(q) }
+                    };
+                    assert_eq!(div_raw(a, b, frac), want, "{a} / {b} at {frac}");
+                }
+            }
+        }
+        assert_eq!(add_raw(i32::MAX, 1), NAN);
+        assert_eq!(sub_raw(-i32::MAX, 1), NAN);
+        assert_eq!(add_raw(-(1 << 30), -(1 << 30)), NAN);
+        assert_eq!(add_raw(i32::MAX, -i32::MAX), 0);
+        assert_eq!(mul_raw(NAN, 0, FRAC), NAN);
+        assert_eq!(div_raw(1, NAN, FRAC), None);
+    }
 
     #[test]
     fn products_and_quotients_round_to_nearest() {
