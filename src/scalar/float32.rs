@@ -63,9 +63,24 @@ const TWO_POW_M50: f32 = 8.881_784e-16;
 #[must_use]
 #[inline]
 pub const fn sqrt_f32(x: f32) -> f32 {
-    if x >= 1.0e-30 && x <= 1.0e30 {
+    // `1e-30 <= x <= 1e30` as one unsigned compare on the bits: positive
+    // floats order like their bit patterns, and negative numbers and NaN
+    // fall outside the interval.
+    if x.to_bits().wrapping_sub(SQRT_FAST_MIN_BITS) <= SQRT_FAST_MAX_BITS - SQRT_FAST_MIN_BITS {
         return sqrt_normal(x);
     }
+    sqrt_edge(x)
+}
+
+/// Bit patterns of `1e-30` and `1e30`, the ends of [`sqrt_f32`]'s usual path.
+const SQRT_FAST_MIN_BITS: u32 = 1.0e-30_f32.to_bits();
+const SQRT_FAST_MAX_BITS: u32 = 1.0e30_f32.to_bits();
+
+/// [`sqrt_f32`] outside its usual path: zeros, negative numbers, NaN,
+/// infinity, and tiny or huge arguments.
+#[cold]
+#[inline(never)]
+const fn sqrt_edge(x: f32) -> f32 {
     if !(x > 0.0) {
         // Zero keeps its sign; negative numbers and NaN have no root.
         return if x == 0.0 { x } else { f32::NAN };
@@ -240,12 +255,26 @@ const A9: f32 = 0.079_025_197_094_382_26;
 /// # Panics
 /// Never.
 #[must_use]
-#[inline]
+#[inline(always)]
 pub const fn atan2_f32(y: f32, x: f32) -> f32 {
     let sum = x.abs() + y.abs();
-    if sum > 0.0 && sum < 1.0e38 {
+    // `0 < sum < 1e38` as one unsigned compare on the bits (`sum` is not
+    // negative; NaN lies above the interval).
+    if sum.to_bits().wrapping_sub(1) < ATAN2_FAST_END_BITS - 1 {
         return atan2_reduced(y, x);
     }
+    atan2_edge(y, x)
+}
+
+/// Bit pattern of `1e38`, the end of [`atan2_f32`]'s usual path.
+const ATAN2_FAST_END_BITS: u32 = 1.0e38_f32.to_bits();
+
+/// [`atan2_f32`] outside its usual path: NaN, both arguments zero,
+/// infinite or huge arguments.
+#[cold]
+#[inline(never)]
+const fn atan2_edge(y: f32, x: f32) -> f32 {
+    let sum = x.abs() + y.abs();
     if x.is_nan() || y.is_nan() {
         return x + y;
     }
@@ -347,6 +376,15 @@ impl Arith for f32 {
     }
 
     #[inline]
+    fn all_finite(v: [Self; 3]) -> bool {
+        // A finite value times zero is a zero; an infinity or NaN gives
+        // NaN, which then fails the comparison. Three multiplications and
+        // one comparison instead of three classifications.
+        let [a, b, c] = v;
+        a * 0.0 + b * 0.0 + c * 0.0 == 0.0
+    }
+
+    #[inline]
     fn from_f64(v: f64) -> Option<Self> {
         // `as` rounds to nearest and maps out-of-range values to infinity.
         #[allow(clippy::cast_possible_truncation)]
@@ -361,12 +399,12 @@ impl Arith for f32 {
 }
 
 impl Real for f32 {
-    #[inline]
+    #[inline(always)]
     fn sqrt(self) -> Self {
         sqrt_f32(self)
     }
 
-    #[inline]
+    #[inline(always)]
     fn atan2(self, x: Self) -> Self {
         atan2_f32(self, x)
     }

@@ -129,6 +129,15 @@ pub trait Arith:
     #[must_use]
     fn is_finite(self) -> bool;
 
+    /// Whether all three values are finite ([`Arith::is_finite`] of each).
+    /// Floats override it with a cheaper test of the same meaning.
+    #[must_use]
+    #[inline]
+    fn all_finite(v: [Self; 3]) -> bool {
+        let [a, b, c] = v;
+        a.is_finite() && b.is_finite() && c.is_finite()
+    }
+
     /// Converts from `f64`, rounding to nearest. `None` when `v` is not
     /// finite or lies outside the representable range.
     #[must_use]
