@@ -137,6 +137,10 @@ const C6: f32 = -1.0 / 720.0;
 const C8: f32 = 1.0 / 40_320.0;
 const C10: f32 = -1.0 / 3_628_800.0;
 
+/// 1.5 * 2^23: adding it to an `f32` of magnitude below 2^22 rounds that
+/// value to an integer held in the low mantissa bits.
+const ROUND_SHIFT: f32 = 12_582_912.0;
+
 /// Sine and cosine of one angle in single precision with a fixed
 /// operation count.
 ///
@@ -149,8 +153,9 @@ const C10: f32 = -1.0 / 3_628_800.0;
 ///   `|x| <= SIN_COS_F32_VALID_RANGE`. Larger arguments, NaN and
 ///   infinities return `(NaN, NaN)`: no result of known accuracy exists
 ///   for them without a much longer reduction.
-/// * Cost: about 30 floating-point operations, one float-to-int
-///   conversion, no loop, no division, no double precision.
+/// * Cost: about 30 floating-point operations, one move of the rounded
+///   quotient's bits to an integer register, no loop, no division, no
+///   double precision.
 ///
 /// # Panics
 /// Never.
@@ -161,8 +166,13 @@ pub const fn sin_cos_f32(x: f32) -> (f32, f32) {
         return (f32::NAN, f32::NAN);
     }
     let t = x * core::f32::consts::FRAC_2_PI;
-    let k = (t + if t < 0.0 { -0.5 } else { 0.5 }) as i32;
-    let kf = k as f32;
+    // Round to the nearest integer by adding 1.5 * 2^23: the sum has no
+    // fraction bits left, so it is rounded (to even on a tie), and its low
+    // mantissa bits hold k in two's complement (|t| < 2^22, so the sum
+    // stays in [2^23, 2^24)). Subtracting the constant again is exact.
+    let shifted = t + ROUND_SHIFT;
+    let kf = shifted - ROUND_SHIFT;
+    let k = shifted.to_bits();
     let r = ((x - kf * PIO2_1) - kf * PIO2_2) - kf * PIO2_3;
     let r2 = r * r;
     let sin_r = r + r * r2 * (S3 + r2 * (S5 + r2 * (S7 + r2 * S9)));
