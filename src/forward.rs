@@ -100,5 +100,5 @@ pub(crate) fn solve<S: Real>(robot: &Robot<S>, trig: [(S, S); 3]) -> Result<[S; 
     // A bounded number type (fixed point) gives not-a-number when a nearly
     // collinear set of centres drives `t` out of range: report it as the
     // singularity it is close to rather than return it.
-    if p.iter().all(|v| v.is_finite()) { Ok(p) } else { Err(Error::NearParallelSingularity) }
+    if S::all_finite(p) { Ok(p) } else { Err(Error::NearParallelSingularity) }
 }

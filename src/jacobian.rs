@@ -113,7 +113,7 @@ impl<S: Real> Jacobian<S> {
             self.rates[1].mul_wide(rates[1]) * self.scale,
             self.rates[2].mul_wide(rates[2]) * self.scale,
         ];
-        if !y.iter().all(|v| v.is_finite()) {
+        if !S::Wide::all_finite(y) {
             return Err(Error::OutOfRange);
         }
         self.solve_rods(y)
@@ -140,7 +140,7 @@ impl<S: Real> Jacobian<S> {
             self.rates[1].mul_wide(z[1]) * self.scale,
             self.rates[2].mul_wide(z[2]) * self.scale,
         ];
-        if out.iter().all(|v| v.is_finite()) { Ok(out) } else { Err(Error::OutOfRange) }
+        if S::Wide::all_finite(out) { Ok(out) } else { Err(Error::OutOfRange) }
     }
 
     /// The full Jacobian `J` (mm/rad), `v = J w`, as rows.
@@ -167,7 +167,7 @@ impl<S: Real> Jacobian<S> {
             inv.mul_wide(dot_wide([a[1], b[1], c[1]], y)),
             inv.mul_wide(dot_wide([a[2], b[2], c[2]], y)),
         ];
-        if out.iter().all(|v| v.is_finite()) { Ok(out) } else { Err(Error::NearParallelSingularity) }
+        if S::Wide::all_finite(out) { Ok(out) } else { Err(Error::NearParallelSingularity) }
     }
 
     /// Solves `J_p^T z = f`: `z_i = f . (s_j x s_k) / det`.
@@ -179,7 +179,7 @@ impl<S: Real> Jacobian<S> {
             inv.mul_wide(dot_wide(cross(r2, r0), f)),
             inv.mul_wide(dot_wide(cross(r0, r1), f)),
         ];
-        if out.iter().all(|v| v.is_finite()) { Ok(out) } else { Err(Error::NearParallelSingularity) }
+        if S::Wide::all_finite(out) { Ok(out) } else { Err(Error::NearParallelSingularity) }
     }
 }
 

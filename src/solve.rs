@@ -28,7 +28,28 @@ impl<S: Real> Robot<S> {
     /// Never.
     #[cfg_attr(feature = "no-panic", no_panic::no_panic)]
     pub fn inverse(&self, target: [S::Wide; 3]) -> Result<Solution<S>, Error> {
-        let solution = self.inverse_unguarded(target)?;
+        self.inverse_guarded(target)
+    }
+
+    /// Guarded inverse kinematics and the joint rates (rad/s) that move
+    /// the platform at `velocity` (mm/s): [`Robot::inverse`] followed by
+    /// [`crate::Jacobian::joint_rates`], with the same results and errors,
+    /// but without handing the whole [`Solution`] back through memory
+    /// (the motion layer's per-cycle step).
+    #[inline]
+    pub(crate) fn inverse_with_rates(
+        &self,
+        target: [S::Wide; 3],
+        velocity: [S::Wide; 3],
+    ) -> Result<([S; 3], [S::Wide; 3]), Error> {
+        let solution = self.inverse_guarded(target)?;
+        Ok((solution.joints, solution.jacobian.joint_rates(velocity)?))
+    }
+
+    /// The body of [`Robot::inverse`], inlined into both entry points.
+    #[inline(always)]
+    fn inverse_guarded(&self, target: [S::Wide; 3]) -> Result<Solution<S>, Error> {
+        let solution = self.inverse_solve(target)?;
         guard::check_joints(self, solution.joints)?;
         guard::check_margins(self, &solution)?;
         Ok(solution)
@@ -66,6 +87,13 @@ impl<S: Real> Robot<S> {
     /// Never.
     #[cfg_attr(feature = "no-panic", no_panic::no_panic)]
     pub fn inverse_unguarded(&self, target: [S::Wide; 3]) -> Result<Solution<S>, Error> {
+        self.inverse_solve(target)
+    }
+
+    /// The body of [`Robot::inverse_unguarded`], inlined into every
+    /// inverse entry point.
+    #[inline(always)]
+    fn inverse_solve(&self, target: [S::Wide; 3]) -> Result<Solution<S>, Error> {
         check_finite(target, Input::Position)?;
         // Out of range (fixed point) gives not-a-number, which the
         // solver reports as unreachable: such a target is beyond reach.
