@@ -55,8 +55,9 @@ const TWO_POW_M50: f32 = 8.881_784e-16;
 /// * Output: `sqrt(x)` within [`SQRT_F32_MAX_REL_ERROR`] relative error;
 ///   `+0`/`-0` return themselves, `+inf` returns `+inf`, negative numbers
 ///   and NaN return NaN.
-/// * Cost: 14 floating-point operations and two integer ones on the usual
-///   path (`1e-30 <= x <= 1e30`), no loop, no division.
+/// * Cost: 14 floating-point operations and four integer ones on the
+///   usual path (`1e-30 <= x <= 1e30`, tested with one unsigned compare of
+///   the bit pattern), no loop, no division.
 ///
 /// # Panics
 /// Never.
@@ -259,8 +260,9 @@ const A9: f32 = 0.079_025_197_094_382_26;
 /// * Output: radians in `[-pi, pi]`, within [`ATAN2_F32_MAX_ABS_ERROR`]
 ///   of the exact angle. Results near zero keep their relative accuracy
 ///   (`atan2(1e-30, 1) = 1e-30`).
-/// * Cost: one division, 13 other floating-point operations and two
-///   comparisons on the usual path (`0 < |x| + |y| < 1e38`), no loop.
+/// * Cost: one division, 14 other floating-point operations and two
+///   comparisons on the usual path (`0 < |x| + |y| < 1e38`, tested with
+///   one unsigned compare of the sum's bit pattern), no loop.
 ///
 /// # Panics
 /// Never.
@@ -458,6 +460,52 @@ mod tests {
         assert!(sqrt_f32(f32::NAN).is_nan());
         assert_eq!(sqrt_f32(4.0), 2.0);
         assert_eq!(sqrt_f32(1.0), 1.0);
+    }
+
+    #[test]
+    fn usual_path_ends_give_the_same_accuracy_on_both_sides() {
+        // sqrt: each end of the usual path, one ulp inside and outside
+        // (the bit compare must split exactly where the float compare did).
+        for end in [1.0e-30f32, 1.0e30] {
+            let b = end.to_bits();
+            for v in [f32::from_bits(b - 1), end, f32::from_bits(b + 1)] {
+                let err = rel_err(sqrt_f32(v), f64::from(v).sqrt());
+                assert!(err <= f64::from(SQRT_F32_MAX_REL_ERROR), "sqrt({v:e}): {err:e}");
+            }
+        }
+        // Negative numbers, however small or large, have no root.
+        for v in [-1.0e-30f32, -1.0e30, -1.0e-45, -f32::MIN_POSITIVE, -1.0] {
+            assert!(sqrt_f32(v).is_nan(), "sqrt({v:e})");
+        }
+        // atan2: sums of magnitudes on each side of 1e38 and the smallest
+        // positive one, in all four quadrants.
+        let end = 1.0e38f32;
+        let below = f32::from_bits(end.to_bits() - 1);
+        let pairs = [(end, 0.0f32), (below, 0.0), (0.5 * end, 0.5 * end), (0.5 * below, 0.5 * below), (1.0e-45, 0.0)];
+        for (a, b) in pairs {
+            for (y, x) in [(a, b), (b, a), (-a, b), (a, -b), (-b, -a)] {
+                let err = atan2_err(y, x);
+                assert!(err <= f64::from(ATAN2_F32_MAX_ABS_ERROR), "atan2({y:e}, {x:e}): {err:e}");
+            }
+        }
+    }
+
+    #[test]
+    fn all_finite_agrees_with_is_finite() {
+        let values =
+            [0.0f32, -0.0, 1.0, -3.5, f32::MAX, -f32::MAX, 1.0e-45, f32::INFINITY, f32::NEG_INFINITY, f32::NAN];
+        for a in values {
+            for b in values {
+                for c in values {
+                    let want = a.is_finite() && b.is_finite() && c.is_finite();
+                    assert_eq!(<f32 as Arith>::all_finite([a, b, c]), want, "{a} {b} {c}");
+                    let wide = [f64::from(a), f64::from(b), f64::from(c)];
+                    assert_eq!(<f64 as Arith>::all_finite(wide), want, "{a} {b} {c} (f64)");
+                }
+            }
+        }
+        assert!(<f64 as Arith>::all_finite([f64::MAX, -f64::MAX, 5e-324]));
+        assert!(!<f64 as Arith>::all_finite([f64::MAX, f64::NAN, 0.0]));
     }
 
     #[test]
