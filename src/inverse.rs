@@ -130,7 +130,11 @@ fn solve_arm<S: Real>(robot: &Robot<S>, arm: u8, q: [S; 3]) -> Result<ArmState<S
     let inv_rho2 = S::ONE.checked_div(rho2).ok_or(unreachable)?;
     let (sin, cos) = (sin_num * inv_rho2, cos_num * inv_rho2);
     let [rx, _, rz] = rod_vector(robot, q, sin, cos);
-    Ok(ArmState { theta: sin_num.atan2(cos_num), sin, cos, rod: [rx, rz], along: sgn_b_w })
+    // The numerators are finite and form a vector of length rho^2, which
+    // is above zero (its reciprocal is finite) and below (1 + a)^2 < 4:
+    // `disc >= 0` means `|K| <= rho`, which bounds `rho` by `1 + a` (the
+    // closure's triangle inequality). So the bounded arc tangent applies.
+    Ok(ArmState { theta: sin_num.atan2_bounded(cos_num), sin, cos, rod: [rx, rz], along: sgn_b_w })
 }
 
 /// Solves all three arms for the platform centre `p` (lower-arm units):

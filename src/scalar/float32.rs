@@ -421,6 +421,13 @@ impl Real for f32 {
         atan2_f32(self, x)
     }
 
+    /// [`atan2_f32`]'s usual path without its range test: the arguments
+    /// are inside it by the caller's promise.
+    #[inline(always)]
+    fn atan2_bounded(self, x: Self) -> Self {
+        atan2_reduced(self, x)
+    }
+
     #[inline]
     fn sin_cos(self) -> (Self, Self) {
         sin_cos_f32(self)
@@ -486,6 +493,19 @@ mod tests {
             for (y, x) in [(a, b), (b, a), (-a, b), (a, -b), (-b, -a)] {
                 let err = atan2_err(y, x);
                 assert!(err <= f64::from(ATAN2_F32_MAX_ABS_ERROR), "atan2({y:e}, {x:e}): {err:e}");
+            }
+        }
+    }
+
+    #[test]
+    fn bounded_atan2_is_the_usual_path() {
+        // Around the circle on radii from tiny to large: the same bits.
+        for radius in [1.0e-20f32, 1.0e-3, 1.0, 3.7, 1.0e20] {
+            for i in 0..4096 {
+                let a = (i as f32) * (2.0 * core::f32::consts::PI / 4096.0) - core::f32::consts::PI;
+                let (s, c) = sin_cos_f32(a);
+                let (y, x) = (radius * s, radius * c);
+                assert_eq!(Real::atan2_bounded(y, x).to_bits(), atan2_f32(y, x).to_bits(), "{y} {x}");
             }
         }
     }

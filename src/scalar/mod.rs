@@ -182,6 +182,17 @@ pub trait Real: Arith {
     #[must_use]
     fn atan2(self, x: Self) -> Self;
 
+    /// [`Real::atan2`] for arguments known to be finite, not both zero,
+    /// with `|self| + |x| < 1e30`: an implementation may skip its checks
+    /// for other inputs. Outside that range the result is unspecified (for
+    /// floats, possibly wrong or NaN), but the call never panics. The
+    /// default is [`Real::atan2`] itself.
+    #[must_use]
+    #[inline]
+    fn atan2_bounded(self, x: Self) -> Self {
+        self.atan2(x)
+    }
+
     /// `(sin(self), cos(self))` for an angle in radians.
     #[must_use]
     fn sin_cos(self) -> (Self, Self);
