@@ -134,7 +134,9 @@ impl<S: Real> Robot<S> {
     /// Forward kinematics for finite joint angles within one turn.
     #[inline]
     fn forward_solve(&self, joints: [S; 3]) -> Result<Solution<S>, Error> {
-        let trig = joints.map(Real::sin_cos);
+        // Finite and within one turn (the callers check), so inside the
+        // bounded sine and cosine's range.
+        let trig = joints.map(Real::sin_cos_bounded);
         let (p, rods) = forward::solve(self, trig)?;
         let [t0, t1, t2] = joints;
         let [g0, g1, g2] = trig;

@@ -166,6 +166,12 @@ pub const fn sin_cos_f32(x: f32) -> (f32, f32) {
     if !(x.abs() <= SIN_COS_F32_VALID_RANGE) {
         return (f32::NAN, f32::NAN);
     }
+    sin_cos_reduced(x)
+}
+
+/// The body of [`sin_cos_f32`], for `|x| <= SIN_COS_F32_VALID_RANGE`.
+#[inline]
+const fn sin_cos_reduced(x: f32) -> (f32, f32) {
     let t = x * core::f32::consts::FRAC_2_PI;
     // Round to the nearest integer by adding 1.5 * 2^23: the sum has no
     // fraction bits left, so it is rounded (to even on a tie), and its low
@@ -432,6 +438,13 @@ impl Real for f32 {
     fn sin_cos(self) -> (Self, Self) {
         sin_cos_f32(self)
     }
+
+    /// [`sin_cos_f32`] without its range test: the argument is inside
+    /// [`SIN_COS_F32_VALID_RANGE`] by the caller's promise.
+    #[inline]
+    fn sin_cos_bounded(self) -> (Self, Self) {
+        sin_cos_reduced(self)
+    }
 }
 
 #[cfg(test)]
@@ -506,6 +519,19 @@ mod tests {
                 let (s, c) = sin_cos_f32(a);
                 let (y, x) = (radius * s, radius * c);
                 assert_eq!(Real::atan2_bounded(y, x).to_bits(), atan2_f32(y, x).to_bits(), "{y} {x}");
+            }
+        }
+    }
+
+    #[test]
+    fn bounded_sin_cos_is_the_checked_one_inside_its_range() {
+        let n = 20_000;
+        for i in 0..=n {
+            let x = -SIN_COS_F32_VALID_RANGE + 2.0 * SIN_COS_F32_VALID_RANGE * (i as f32) / (n as f32);
+            for v in [x, x * 1.0e-4, x * 1.0e-8] {
+                let (s, c) = Real::sin_cos_bounded(v);
+                let (s_want, c_want) = sin_cos_f32(v);
+                assert_eq!((s.to_bits(), c.to_bits()), (s_want.to_bits(), c_want.to_bits()), "{v}");
             }
         }
     }

@@ -196,4 +196,15 @@ pub trait Real: Arith {
     /// `(sin(self), cos(self))` for an angle in radians.
     #[must_use]
     fn sin_cos(self) -> (Self, Self);
+
+    /// [`Real::sin_cos`] for an angle known to be finite and within 1e4
+    /// radians of zero: an implementation may skip its checks for other
+    /// inputs. Outside that range the result is unspecified (for floats,
+    /// possibly wrong or NaN), but the call never panics. The default is
+    /// [`Real::sin_cos`] itself.
+    #[must_use]
+    #[inline]
+    fn sin_cos_bounded(self) -> (Self, Self) {
+        self.sin_cos()
+    }
 }
