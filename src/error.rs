@@ -185,7 +185,7 @@ impl core::error::Error for Error {}
 /// `Ok` when all three numbers are finite, else [`Error::NonFinite`]
 /// naming `input`.
 pub(crate) fn check_finite<A: crate::scalar::Arith>(v: [A; 3], input: Input) -> Result<(), Error> {
-    if v.iter().all(|x| x.is_finite()) { Ok(()) } else { Err(Error::NonFinite { input }) }
+    if A::all_finite(v) { Ok(()) } else { Err(Error::NonFinite { input }) }
 }
 
 #[cfg(test)]

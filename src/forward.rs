@@ -64,7 +64,9 @@ fn centre<S: Real>(robot: &Robot<S>, (c, s): (S, S), sin: S, cos: S) -> [S; 3] {
 }
 
 /// The platform centre (lower-arm units, base frame) for joints whose
-/// sines and cosines are given, lower branch.
+/// sines and cosines are given, lower branch, and the three rods (elbow to
+/// platform joint, base frame): the platform centre minus each sphere
+/// centre.
 ///
 /// # Errors
 /// [`Error::NoAssembly`] when the spheres do not meet;
@@ -72,14 +74,16 @@ fn centre<S: Real>(robot: &Robot<S>, (c, s): (S, S), sin: S, cos: S) -> [S; 3] {
 /// intersection is then a circle or nothing), or so nearly collinear that
 /// the result leaves the number type's range.
 #[inline]
-pub(crate) fn solve<S: Real>(robot: &Robot<S>, trig: [(S, S); 3]) -> Result<[S; 3], Error> {
+pub(crate) fn solve<S: Real>(robot: &Robot<S>, trig: [(S, S); 3]) -> Result<([S; 3], [[S; 3]; 3]), Error> {
     let [(s0, c0), (s1, c1), (s2, c2)] = trig;
     let [_, k1, k2] = &robot.arms;
     // Arm 0 lies on the x axis (azimuth 0, see `Robot::new`).
     let radial0 = robot.d + robot.a * c0;
     let p0 = [radial0, S::ZERO, -(robot.a * s0)];
-    let u = sub(centre(robot, (k1.cos_phi, k1.sin_phi), s1, c1), p0);
-    let v = sub(centre(robot, (k2.cos_phi, k2.sin_phi), s2, c2), p0);
+    let e1 = centre(robot, (k1.cos_phi, k1.sin_phi), s1, c1);
+    let e2 = centre(robot, (k2.cos_phi, k2.sin_phi), s2, c2);
+    let u = sub(e1, p0);
+    let v = sub(e2, p0);
     let n = cross(u, v);
     let n2 = dot(n, n);
     let inv_2n2 = S::ONE.checked_div(S::TWO * n2).ok_or(Error::NearParallelSingularity)?;
@@ -100,5 +104,5 @@ pub(crate) fn solve<S: Real>(robot: &Robot<S>, trig: [(S, S); 3]) -> Result<[S; 
     // A bounded number type (fixed point) gives not-a-number when a nearly
     // collinear set of centres drives `t` out of range: report it as the
     // singularity it is close to rather than return it.
-    if p.iter().all(|v| v.is_finite()) { Ok(p) } else { Err(Error::NearParallelSingularity) }
+    if S::all_finite(p) { Ok((p, [sub(p, p0), sub(p, e1), sub(p, e2)])) } else { Err(Error::NearParallelSingularity) }
 }

@@ -44,7 +44,7 @@
 //! multiplications and additions. No iteration.
 
 use crate::error::Error;
-use crate::robot::Robot;
+use crate::robot::{ArmConstants, Robot};
 use crate::scalar::Real;
 
 /// One arm's closed loop, in lower-arm units and the arm's plane frame.
@@ -56,12 +56,31 @@ pub(crate) struct ArmState<S> {
     pub(crate) sin: S,
     pub(crate) cos: S,
     /// Lower-arm vector from elbow to platform joint (unit length up to
-    /// rounding), in the arm's plane frame.
-    pub(crate) rod: [S; 3],
+    /// rounding) in the arm's plane frame: its x (radial) and z components.
+    /// The whole vector, in the base frame, goes to the Jacobian
+    /// separately.
+    pub(crate) rod: [S; 2],
     /// `rod . (sin t, 0, cos t)`: the rod's component along the elbow's
     /// direction of travel (up to the factor `-a`), whose magnitude is the
     /// serial margin.
     pub(crate) along: S,
+}
+
+impl<S: Real> ArmState<S> {
+    /// An arm's state from its joint angle, the angle's sine and cosine,
+    /// and the rod's plane components `[x, z]`.
+    #[inline]
+    pub(crate) fn new(theta: S, (sin, cos): (S, S), rod: [S; 2]) -> Self {
+        let [rx, rz] = rod;
+        Self { theta, sin, cos, rod, along: sin * rx + cos * rz }
+    }
+}
+
+/// An arm-plane vector in the base frame: turned by the arm's azimuth.
+#[inline]
+fn rotate<S: Real>(k: &ArmConstants<S>, v: [S; 3]) -> [S; 3] {
+    let [x, y, z] = v;
+    [k.cos_phi * x - k.sin_phi * y, k.sin_phi * x + k.cos_phi * y, z]
 }
 
 /// The platform centre `p` (lower-arm units, base frame) seen from each
@@ -69,7 +88,7 @@ pub(crate) struct ArmState<S> {
 /// joint sits when the elbow is on the actuator axis. Arm 0 lies on the x
 /// axis; arms 1 and 2 at +-120 degrees share their products.
 #[inline]
-pub(crate) fn arm_plane_points<S: Real>(robot: &Robot<S>, p: [S; 3]) -> [[S; 3]; 3] {
+fn arm_plane_points<S: Real>(robot: &Robot<S>, p: [S; 3]) -> [[S; 3]; 3] {
     let [_, k1, _] = &robot.arms;
     let (c, s) = (k1.cos_phi, k1.sin_phi);
     let [x, y, z] = p;
@@ -80,7 +99,7 @@ pub(crate) fn arm_plane_points<S: Real>(robot: &Robot<S>, p: [S; 3]) -> [[S; 3];
 /// Rod vector (elbow to platform joint) in the arm's plane frame, from the
 /// arm-plane point and the joint angle's sine and cosine.
 #[inline]
-pub(crate) fn rod_vector<S: Real>(robot: &Robot<S>, q: [S; 3], sin: S, cos: S) -> [S; 3] {
+fn rod_vector<S: Real>(robot: &Robot<S>, q: [S; 3], sin: S, cos: S) -> [S; 3] {
     let [x, y, z] = q;
     [x - robot.a * cos, y, z + robot.a * sin]
 }
@@ -110,15 +129,35 @@ fn solve_arm<S: Real>(robot: &Robot<S>, arm: u8, q: [S; 3]) -> Result<ArmState<S
     let sin_num = cb * k - sgn_b_w * ca;
     let inv_rho2 = S::ONE.checked_div(rho2).ok_or(unreachable)?;
     let (sin, cos) = (sin_num * inv_rho2, cos_num * inv_rho2);
-    Ok(ArmState { theta: sin_num.atan2(cos_num), sin, cos, rod: rod_vector(robot, q, sin, cos), along: sgn_b_w })
+    let [rx, _, rz] = rod_vector(robot, q, sin, cos);
+    // The numerators are finite and form a vector of length rho^2, which
+    // is above zero (its reciprocal is finite) and below (1 + a)^2 < 4:
+    // `disc >= 0` means `|K| <= rho`, which bounds `rho` by `1 + a` (the
+    // closure's triangle inequality). So the bounded arc tangent applies.
+    Ok(ArmState { theta: sin_num.atan2_bounded(cos_num), sin, cos, rod: [rx, rz], along: sgn_b_w })
 }
 
-/// Solves all three arms for the platform centre `p` (lower-arm units).
+/// Solves all three arms for the platform centre `p` (lower-arm units):
+/// their states and the platform centre's y coordinate in each arm's
+/// plane (the rods' y components there, see [`base_rods`]).
 ///
 /// # Errors
 /// The first arm's [`Error::Unreachable`], arms taken in order 0, 1, 2.
 #[inline]
-pub(crate) fn solve_arms<S: Real>(robot: &Robot<S>, p: [S; 3]) -> Result<[ArmState<S>; 3], Error> {
+pub(crate) fn solve_arms<S: Real>(robot: &Robot<S>, p: [S; 3]) -> Result<([ArmState<S>; 3], [S; 3]), Error> {
     let [q0, q1, q2] = arm_plane_points(robot, p);
-    Ok([solve_arm(robot, 0, q0)?, solve_arm(robot, 1, q1)?, solve_arm(robot, 2, q2)?])
+    let arms = [solve_arm(robot, 0, q0)?, solve_arm(robot, 1, q1)?, solve_arm(robot, 2, q2)?];
+    Ok((arms, [q0[1], q1[1], q2[1]]))
+}
+
+/// The rods of solved arms in the base frame, given each rod's y
+/// component in its arm's plane: arm 0's plane is the xz plane; arms 1
+/// and 2 turn by their azimuths.
+#[inline]
+pub(crate) fn base_rods<S: Real>(robot: &Robot<S>, arms: &[ArmState<S>; 3], plane_y: [S; 3]) -> [[S; 3]; 3] {
+    let [_, k1, k2] = &robot.arms;
+    let [s0, s1, s2] = arms;
+    let [y0, y1, y2] = plane_y;
+    let ([x0, z0], [x1, z1], [x2, z2]) = (s0.rod, s1.rod, s2.rod);
+    [[x0, y0, z0], rotate(k1, [x1, y1, z1]), rotate(k2, [x2, y2, z2])]
 }

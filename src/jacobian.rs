@@ -41,7 +41,7 @@ use crate::scalar::{Arith, Real};
 ///
 /// Units: platform velocity mm/s, joint rates rad/s, force N, torque N*mm,
 /// all of the scalar's API type [`Arith::Wide`] (the scalar itself for
-/// floats). The pose-dependent parts (unit rods, rates, determinant) stay
+/// floats). The pose-dependent parts (unit rods and rates) stay
 /// in the internal type.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Jacobian<S: Arith> {
@@ -49,9 +49,9 @@ pub struct Jacobian<S: Arith> {
     rods: [[S; 3]; 3],
     /// `b_i` in lower-arm units per radian.
     rates: [S; 3],
-    /// `det` of the three unit rods.
-    det: S,
-    /// Lower-arm length, mm.
+    /// Lower-arm length, mm. (`det` of the rods is not kept: the guards
+    /// use it once, the maps that divide by it recompute it with the cross
+    /// products they need anyway.)
     scale: S::Wide,
 }
 
@@ -63,14 +63,14 @@ fn dot_wide<S: Arith>(m: [S; 3], w: [S::Wide; 3]) -> S::Wide {
 }
 
 impl<S: Real> Jacobian<S> {
-    pub(crate) fn new(rods: [[S; 3]; 3], rates: [S; 3], scale: S::Wide) -> Self {
-        let [r0, r1, r2] = rods;
-        Self { rods, rates, det: dot(r0, cross(r1, r2)), scale }
+    pub(crate) const fn new(rods: [[S; 3]; 3], rates: [S; 3], scale: S::Wide) -> Self {
+        Self { rods, rates, scale }
     }
 
     /// Parallel margin, `|det|` of the three unit lower-arm vectors.
     pub(crate) fn parallel_margin(&self) -> S {
-        self.det.abs()
+        let [r0, r1, r2] = self.rods;
+        dot(r0, cross(r1, r2)).abs()
     }
 
     /// Joint rates (rad/s) that move the platform at `velocity` (mm/s):
@@ -113,7 +113,7 @@ impl<S: Real> Jacobian<S> {
             self.rates[1].mul_wide(rates[1]) * self.scale,
             self.rates[2].mul_wide(rates[2]) * self.scale,
         ];
-        if !y.iter().all(|v| v.is_finite()) {
+        if !S::Wide::all_finite(y) {
             return Err(Error::OutOfRange);
         }
         self.solve_rods(y)
@@ -140,7 +140,7 @@ impl<S: Real> Jacobian<S> {
             self.rates[1].mul_wide(z[1]) * self.scale,
             self.rates[2].mul_wide(z[2]) * self.scale,
         ];
-        if out.iter().all(|v| v.is_finite()) { Ok(out) } else { Err(Error::OutOfRange) }
+        if S::Wide::all_finite(out) { Ok(out) } else { Err(Error::OutOfRange) }
     }
 
     /// The full Jacobian `J` (mm/rad), `v = J w`, as rows.
@@ -160,26 +160,27 @@ impl<S: Real> Jacobian<S> {
     /// Solves `J_p x = y` by Cramer's rule: `x = sum y_i (s_j x s_k) / det`.
     fn solve_rods(&self, y: [S::Wide; 3]) -> Result<[S::Wide; 3], Error> {
         let [r0, r1, r2] = self.rods;
-        let inv = S::ONE.checked_div(self.det).ok_or(Error::NearParallelSingularity)?;
         let (a, b, c) = (cross(r1, r2), cross(r2, r0), cross(r0, r1));
+        let inv = S::ONE.checked_div(dot(r0, a)).ok_or(Error::NearParallelSingularity)?;
         let out = [
             inv.mul_wide(dot_wide([a[0], b[0], c[0]], y)),
             inv.mul_wide(dot_wide([a[1], b[1], c[1]], y)),
             inv.mul_wide(dot_wide([a[2], b[2], c[2]], y)),
         ];
-        if out.iter().all(|v| v.is_finite()) { Ok(out) } else { Err(Error::NearParallelSingularity) }
+        if S::Wide::all_finite(out) { Ok(out) } else { Err(Error::NearParallelSingularity) }
     }
 
     /// Solves `J_p^T z = f`: `z_i = f . (s_j x s_k) / det`.
     fn solve_rods_transposed(&self, f: [S::Wide; 3]) -> Result<[S::Wide; 3], Error> {
         let [r0, r1, r2] = self.rods;
-        let inv = S::ONE.checked_div(self.det).ok_or(Error::NearParallelSingularity)?;
+        let a = cross(r1, r2);
+        let inv = S::ONE.checked_div(dot(r0, a)).ok_or(Error::NearParallelSingularity)?;
         let out = [
-            inv.mul_wide(dot_wide(cross(r1, r2), f)),
+            inv.mul_wide(dot_wide(a, f)),
             inv.mul_wide(dot_wide(cross(r2, r0), f)),
             inv.mul_wide(dot_wide(cross(r0, r1), f)),
         ];
-        if out.iter().all(|v| v.is_finite()) { Ok(out) } else { Err(Error::NearParallelSingularity) }
+        if S::Wide::all_finite(out) { Ok(out) } else { Err(Error::NearParallelSingularity) }
     }
 }
 

@@ -43,17 +43,19 @@ pub struct Solution<S: Arith> {
 }
 
 impl<S: Real> Solution<S> {
-    /// Assembles a solution from the three arm loops. `position_mm` is the
-    /// platform centre in millimetres.
+    /// Assembles a solution from the three arm loops and their rods in the
+    /// base frame. `position_mm` is the platform centre in millimetres.
     #[inline]
-    pub(crate) fn assemble(robot: &Robot<S>, position_mm: [S::Wide; 3], arms: [ArmState<S>; 3]) -> Self {
+    pub(crate) fn assemble(
+        robot: &Robot<S>,
+        position_mm: [S::Wide; 3],
+        arms: [ArmState<S>; 3],
+        rods: [[S; 3]; 3],
+    ) -> Self {
         let [_, _, z] = position_mm;
         let above = z > S::Wide::ZERO;
         let [k0, k1, k2] = &robot.arms;
         let [s0, s1, s2] = &arms;
-        // Rods in the base frame: arm 0's plane is the xz plane; arms 1
-        // and 2 turn by their azimuths.
-        let rods = [s0.rod, rotate(k1, s1.rod), rotate(k2, s2.rod)];
         let parts = [part(robot, k0, s0, above), part(robot, k1, s1, above), part(robot, k2, s2, above)];
         let jacobian = Jacobian::new(rods, parts.map(|(rate, _, _)| rate), robot.scale);
         Self {
@@ -69,18 +71,11 @@ impl<S: Real> Solution<S> {
     }
 }
 
-/// An arm-plane vector in the base frame: turned by the arm's azimuth.
-#[inline]
-fn rotate<S: Real>(k: &ArmConstants<S>, v: [S; 3]) -> [S; 3] {
-    let [x, y, z] = v;
-    [k.cos_phi * x - k.sin_phi * y, k.sin_phi * x + k.cos_phi * y, z]
-}
-
 /// One arm's Jacobian rate `b_i`, serial margin and passive-joint tilt
 /// cosines `[elbow, platform]`.
 #[inline]
 fn part<S: Real>(robot: &Robot<S>, k: &ArmConstants<S>, state: &ArmState<S>, above: bool) -> (S, S, [S; 2]) {
-    let [rx, _, rz] = state.rod;
+    let [rx, rz] = state.rod;
     // dE/dt = a (-sin t, 0, -cos t) in the arm plane, so b = -a along.
     let rate = -(robot.a * state.along);
     // Signed so that the conventions' branch is positive: on the

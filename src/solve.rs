@@ -28,7 +28,28 @@ impl<S: Real> Robot<S> {
     /// Never.
     #[cfg_attr(feature = "no-panic", no_panic::no_panic)]
     pub fn inverse(&self, target: [S::Wide; 3]) -> Result<Solution<S>, Error> {
-        let solution = self.inverse_unguarded(target)?;
+        self.inverse_guarded(target)
+    }
+
+    /// Guarded inverse kinematics and the joint rates (rad/s) that move
+    /// the platform at `velocity` (mm/s): [`Robot::inverse`] followed by
+    /// [`crate::Jacobian::joint_rates`], with the same results and errors,
+    /// but without handing the whole [`Solution`] back through memory
+    /// (the motion layer's per-cycle step).
+    #[inline]
+    pub(crate) fn inverse_with_rates(
+        &self,
+        target: [S::Wide; 3],
+        velocity: [S::Wide; 3],
+    ) -> Result<([S; 3], [S::Wide; 3]), Error> {
+        let solution = self.inverse_guarded(target)?;
+        Ok((solution.joints, solution.jacobian.joint_rates(velocity)?))
+    }
+
+    /// The body of [`Robot::inverse`], inlined into both entry points.
+    #[inline(always)]
+    fn inverse_guarded(&self, target: [S::Wide; 3]) -> Result<Solution<S>, Error> {
+        let solution = self.inverse_solve(target)?;
         guard::check_joints(self, solution.joints)?;
         guard::check_margins(self, &solution)?;
         Ok(solution)
@@ -66,12 +87,19 @@ impl<S: Real> Robot<S> {
     /// Never.
     #[cfg_attr(feature = "no-panic", no_panic::no_panic)]
     pub fn inverse_unguarded(&self, target: [S::Wide; 3]) -> Result<Solution<S>, Error> {
+        self.inverse_solve(target)
+    }
+
+    /// The body of [`Robot::inverse_unguarded`], inlined into every
+    /// inverse entry point.
+    #[inline(always)]
+    fn inverse_solve(&self, target: [S::Wide; 3]) -> Result<Solution<S>, Error> {
         check_finite(target, Input::Position)?;
         // Out of range (fixed point) gives not-a-number, which the
         // solver reports as unreachable: such a target is beyond reach.
         let p = target.map(|v| S::mul_recip(v, self.inv_scale));
-        let arms = inverse::solve_arms(self, p)?;
-        Ok(Solution::assemble(self, target, arms))
+        let (arms, plane_y) = inverse::solve_arms(self, p)?;
+        Ok(Solution::assemble(self, target, arms, inverse::base_rods(self, &arms, plane_y)))
     }
 
     /// Forward kinematics **without limit checks**, for diagnostics,
@@ -106,18 +134,22 @@ impl<S: Real> Robot<S> {
     /// Forward kinematics for finite joint angles within one turn.
     #[inline]
     fn forward_solve(&self, joints: [S; 3]) -> Result<Solution<S>, Error> {
-        let trig = joints.map(Real::sin_cos);
-        let p = forward::solve(self, trig)?;
-        let state = |theta: S, (sin, cos): (S, S), q: [S; 3]| {
-            let rod = inverse::rod_vector(self, q, sin, cos);
-            let [rx, _, rz] = rod;
-            ArmState { theta, sin, cos, rod, along: sin * rx + cos * rz }
-        };
+        // Finite and within one turn (the callers check), so inside the
+        // bounded sine and cosine's range.
+        let trig = joints.map(Real::sin_cos_bounded);
+        let (p, rods) = forward::solve(self, trig)?;
         let [t0, t1, t2] = joints;
         let [g0, g1, g2] = trig;
-        let [q0, q1, q2] = inverse::arm_plane_points(self, p);
-        let arms = [state(t0, g0, q0), state(t1, g1, q1), state(t2, g2, q2)];
-        Ok(Solution::assemble(self, p.map(|v| v.mul_wide(self.scale)), arms))
+        let [[x0, _, z0], [x1, y1, z1], [x2, y2, z2]] = rods;
+        let [_, k1, k2] = &self.arms;
+        // Each rod's radial component in its arm's plane (arm 0's plane is
+        // the xz plane); z is common to all frames.
+        let arms = [
+            ArmState::new(t0, g0, [x0, z0]),
+            ArmState::new(t1, g1, [k1.cos_phi * x1 + k1.sin_phi * y1, z1]),
+            ArmState::new(t2, g2, [k2.cos_phi * x2 + k2.sin_phi * y2, z2]),
+        ];
+        Ok(Solution::assemble(self, p.map(|v| v.mul_wide(self.scale)), arms, rods))
     }
 }
 

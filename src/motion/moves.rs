@@ -196,9 +196,8 @@ impl<S: Real, P: Real<Wide = P>> PlannedMove<S, P> {
                 Ok(Setpoint { position: sol.position, joints: sol.joints, joint_rates: rates, cycle, end_of_move })
             }
             Target::Cartesian { point, velocity } => {
-                let sol = robot.inverse(point)?;
-                let joint_rates = sol.jacobian.joint_rates(velocity)?;
-                Ok(Setpoint { position: point, joints: sol.joints, joint_rates, cycle, end_of_move })
+                let (joints, joint_rates) = robot.inverse_with_rates(point, velocity)?;
+                Ok(Setpoint { position: point, joints, joint_rates, cycle, end_of_move })
             }
         }
     }

@@ -282,7 +282,8 @@ impl<S: Real, P: Real<Wide = P>, const N: usize> Stream<S, N, P> {
     /// validation excludes. Should it happen anyway, the queue is cleared
     /// and the error returned: the caller holds the last good setpoint.
     pub fn next_setpoint(&mut self) -> Result<Option<StreamSetpoint<S>>, MotionError> {
-        // Borrowed, not copied: a planned move is some hundred bytes.
+        // The move is used in place: a copy would cost a few hundred bytes
+        // of stack and as many of copying every cycle.
         let Some((move_id, mv)) = self.queue.front() else { return Ok(None) };
         let move_id = *move_id;
         let cycle = self.cycle.saturating_add(1);

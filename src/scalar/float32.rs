@@ -55,17 +55,33 @@ const TWO_POW_M50: f32 = 8.881_784e-16;
 /// * Output: `sqrt(x)` within [`SQRT_F32_MAX_REL_ERROR`] relative error;
 ///   `+0`/`-0` return themselves, `+inf` returns `+inf`, negative numbers
 ///   and NaN return NaN.
-/// * Cost: 14 floating-point operations and two integer ones on the usual
-///   path (`1e-30 <= x <= 1e30`), no loop, no division.
+/// * Cost: 14 floating-point operations and four integer ones on the
+///   usual path (`1e-30 <= x <= 1e30`, tested with one unsigned compare of
+///   the bit pattern), no loop, no division.
 ///
 /// # Panics
 /// Never.
 #[must_use]
 #[inline]
 pub const fn sqrt_f32(x: f32) -> f32 {
-    if x >= 1.0e-30 && x <= 1.0e30 {
+    // `1e-30 <= x <= 1e30` as one unsigned compare on the bits: positive
+    // floats order like their bit patterns, and negative numbers and NaN
+    // fall outside the interval.
+    if x.to_bits().wrapping_sub(SQRT_FAST_MIN_BITS) <= SQRT_FAST_MAX_BITS - SQRT_FAST_MIN_BITS {
         return sqrt_normal(x);
     }
+    sqrt_edge(x)
+}
+
+/// Bit patterns of `1e-30` and `1e30`, the ends of [`sqrt_f32`]'s usual path.
+const SQRT_FAST_MIN_BITS: u32 = 1.0e-30_f32.to_bits();
+const SQRT_FAST_MAX_BITS: u32 = 1.0e30_f32.to_bits();
+
+/// [`sqrt_f32`] outside its usual path: zeros, negative numbers, NaN,
+/// infinity, and tiny or huge arguments.
+#[cold]
+#[inline(never)]
+const fn sqrt_edge(x: f32) -> f32 {
     if !(x > 0.0) {
         // Zero keeps its sign; negative numbers and NaN have no root.
         return if x == 0.0 { x } else { f32::NAN };
@@ -122,6 +138,10 @@ const C6: f32 = -1.0 / 720.0;
 const C8: f32 = 1.0 / 40_320.0;
 const C10: f32 = -1.0 / 3_628_800.0;
 
+/// 1.5 * 2^23: adding it to an `f32` of magnitude below 2^22 rounds that
+/// value to an integer held in the low mantissa bits.
+const ROUND_SHIFT: f32 = 12_582_912.0;
+
 /// Sine and cosine of one angle in single precision with a fixed
 /// operation count.
 ///
@@ -134,8 +154,9 @@ const C10: f32 = -1.0 / 3_628_800.0;
 ///   `|x| <= SIN_COS_F32_VALID_RANGE`. Larger arguments, NaN and
 ///   infinities return `(NaN, NaN)`: no result of known accuracy exists
 ///   for them without a much longer reduction.
-/// * Cost: about 30 floating-point operations, one float-to-int
-///   conversion, no loop, no division, no double precision.
+/// * Cost: about 30 floating-point operations, one move of the rounded
+///   quotient's bits to an integer register, no loop, no division, no
+///   double precision.
 ///
 /// # Panics
 /// Never.
@@ -145,9 +166,20 @@ pub const fn sin_cos_f32(x: f32) -> (f32, f32) {
     if !(x.abs() <= SIN_COS_F32_VALID_RANGE) {
         return (f32::NAN, f32::NAN);
     }
+    sin_cos_reduced(x)
+}
+
+/// The body of [`sin_cos_f32`], for `|x| <= SIN_COS_F32_VALID_RANGE`.
+#[inline]
+const fn sin_cos_reduced(x: f32) -> (f32, f32) {
     let t = x * core::f32::consts::FRAC_2_PI;
-    let k = (t + if t < 0.0 { -0.5 } else { 0.5 }) as i32;
-    let kf = k as f32;
+    // Round to the nearest integer by adding 1.5 * 2^23: the sum has no
+    // fraction bits left, so it is rounded (to even on a tie), and its low
+    // mantissa bits hold k in two's complement (|t| < 2^22, so the sum
+    // stays in [2^23, 2^24)). Subtracting the constant again is exact.
+    let shifted = t + ROUND_SHIFT;
+    let kf = shifted - ROUND_SHIFT;
+    let k = shifted.to_bits();
     let r = ((x - kf * PIO2_1) - kf * PIO2_2) - kf * PIO2_3;
     let r2 = r * r;
     let sin_r = r + r * r2 * (S3 + r2 * (S5 + r2 * (S7 + r2 * S9)));
@@ -234,18 +266,33 @@ const A9: f32 = 0.079_025_197_094_382_26;
 /// * Output: radians in `[-pi, pi]`, within [`ATAN2_F32_MAX_ABS_ERROR`]
 ///   of the exact angle. Results near zero keep their relative accuracy
 ///   (`atan2(1e-30, 1) = 1e-30`).
-/// * Cost: one division, 13 other floating-point operations and two
-///   comparisons on the usual path (`0 < |x| + |y| < 1e38`), no loop.
+/// * Cost: one division, 14 other floating-point operations and two
+///   comparisons on the usual path (`0 < |x| + |y| < 1e38`, tested with
+///   one unsigned compare of the sum's bit pattern), no loop.
 ///
 /// # Panics
 /// Never.
 #[must_use]
-#[inline]
+#[inline(always)]
 pub const fn atan2_f32(y: f32, x: f32) -> f32 {
     let sum = x.abs() + y.abs();
-    if sum > 0.0 && sum < 1.0e38 {
+    // `0 < sum < 1e38` as one unsigned compare on the bits (`sum` is not
+    // negative; NaN lies above the interval).
+    if sum.to_bits().wrapping_sub(1) < ATAN2_FAST_END_BITS - 1 {
         return atan2_reduced(y, x);
     }
+    atan2_edge(y, x)
+}
+
+/// Bit pattern of `1e38`, the end of [`atan2_f32`]'s usual path.
+const ATAN2_FAST_END_BITS: u32 = 1.0e38_f32.to_bits();
+
+/// [`atan2_f32`] outside its usual path: NaN, both arguments zero,
+/// infinite or huge arguments.
+#[cold]
+#[inline(never)]
+const fn atan2_edge(y: f32, x: f32) -> f32 {
+    let sum = x.abs() + y.abs();
     if x.is_nan() || y.is_nan() {
         return x + y;
     }
@@ -347,6 +394,15 @@ impl Arith for f32 {
     }
 
     #[inline]
+    fn all_finite(v: [Self; 3]) -> bool {
+        // A finite value times zero is a zero; an infinity or NaN gives
+        // NaN, which then fails the comparison. Three multiplications and
+        // one comparison instead of three classifications.
+        let [a, b, c] = v;
+        a * 0.0 + b * 0.0 + c * 0.0 == 0.0
+    }
+
+    #[inline]
     fn from_f64(v: f64) -> Option<Self> {
         // `as` rounds to nearest and maps out-of-range values to infinity.
         #[allow(clippy::cast_possible_truncation)]
@@ -361,19 +417,33 @@ impl Arith for f32 {
 }
 
 impl Real for f32 {
-    #[inline]
+    #[inline(always)]
     fn sqrt(self) -> Self {
         sqrt_f32(self)
     }
 
-    #[inline]
+    #[inline(always)]
     fn atan2(self, x: Self) -> Self {
         atan2_f32(self, x)
+    }
+
+    /// [`atan2_f32`]'s usual path without its range test: the arguments
+    /// are inside it by the caller's promise.
+    #[inline(always)]
+    fn atan2_bounded(self, x: Self) -> Self {
+        atan2_reduced(self, x)
     }
 
     #[inline]
     fn sin_cos(self) -> (Self, Self) {
         sin_cos_f32(self)
+    }
+
+    /// [`sin_cos_f32`] without its range test: the argument is inside
+    /// [`SIN_COS_F32_VALID_RANGE`] by the caller's promise.
+    #[inline]
+    fn sin_cos_bounded(self) -> (Self, Self) {
+        sin_cos_reduced(self)
     }
 }
 
@@ -410,6 +480,78 @@ mod tests {
         assert!(sqrt_f32(f32::NAN).is_nan());
         assert_eq!(sqrt_f32(4.0), 2.0);
         assert_eq!(sqrt_f32(1.0), 1.0);
+    }
+
+    #[test]
+    fn usual_path_ends_give_the_same_accuracy_on_both_sides() {
+        // sqrt: each end of the usual path, one ulp inside and outside
+        // (the bit compare must split exactly where the float compare did).
+        for end in [1.0e-30f32, 1.0e30] {
+            let b = end.to_bits();
+            for v in [f32::from_bits(b - 1), end, f32::from_bits(b + 1)] {
+                let err = rel_err(sqrt_f32(v), f64::from(v).sqrt());
+                assert!(err <= f64::from(SQRT_F32_MAX_REL_ERROR), "sqrt({v:e}): {err:e}");
+            }
+        }
+        // Negative numbers, however small or large, have no root.
+        for v in [-1.0e-30f32, -1.0e30, -1.0e-45, -f32::MIN_POSITIVE, -1.0] {
+            assert!(sqrt_f32(v).is_nan(), "sqrt({v:e})");
+        }
+        // atan2: sums of magnitudes on each side of 1e38 and the smallest
+        // positive one, in all four quadrants.
+        let end = 1.0e38f32;
+        let below = f32::from_bits(end.to_bits() - 1);
+        let pairs = [(end, 0.0f32), (below, 0.0), (0.5 * end, 0.5 * end), (0.5 * below, 0.5 * below), (1.0e-45, 0.0)];
+        for (a, b) in pairs {
+            for (y, x) in [(a, b), (b, a), (-a, b), (a, -b), (-b, -a)] {
+                let err = atan2_err(y, x);
+                assert!(err <= f64::from(ATAN2_F32_MAX_ABS_ERROR), "atan2({y:e}, {x:e}): {err:e}");
+            }
+        }
+    }
+
+    #[test]
+    fn bounded_atan2_is_the_usual_path() {
+        // Around the circle on radii from tiny to large: the same bits.
+        for radius in [1.0e-20f32, 1.0e-3, 1.0, 3.7, 1.0e20] {
+            for i in 0..4096 {
+                let a = (i as f32) * (2.0 * core::f32::consts::PI / 4096.0) - core::f32::consts::PI;
+                let (s, c) = sin_cos_f32(a);
+                let (y, x) = (radius * s, radius * c);
+                assert_eq!(Real::atan2_bounded(y, x).to_bits(), atan2_f32(y, x).to_bits(), "{y} {x}");
+            }
+        }
+    }
+
+    #[test]
+    fn bounded_sin_cos_is_the_checked_one_inside_its_range() {
+        let n = 20_000;
+        for i in 0..=n {
+            let x = -SIN_COS_F32_VALID_RANGE + 2.0 * SIN_COS_F32_VALID_RANGE * (i as f32) / (n as f32);
+            for v in [x, x * 1.0e-4, x * 1.0e-8] {
+                let (s, c) = Real::sin_cos_bounded(v);
+                let (s_want, c_want) = sin_cos_f32(v);
+                assert_eq!((s.to_bits(), c.to_bits()), (s_want.to_bits(), c_want.to_bits()), "{v}");
+            }
+        }
+    }
+
+    #[test]
+    fn all_finite_agrees_with_is_finite() {
+        let values =
+            [0.0f32, -0.0, 1.0, -3.5, f32::MAX, -f32::MAX, 1.0e-45, f32::INFINITY, f32::NEG_INFINITY, f32::NAN];
+        for a in values {
+            for b in values {
+                for c in values {
+                    let want = a.is_finite() && b.is_finite() && c.is_finite();
+                    assert_eq!(<f32 as Arith>::all_finite([a, b, c]), want, "{a} {b} {c}");
+                    let wide = [f64::from(a), f64::from(b), f64::from(c)];
+                    assert_eq!(<f64 as Arith>::all_finite(wide), want, "{a} {b} {c} (f64)");
+                }
+            }
+        }
+        assert!(<f64 as Arith>::all_finite([f64::MAX, -f64::MAX, 5e-324]));
+        assert!(!<f64 as Arith>::all_finite([f64::MAX, f64::NAN, 0.0]));
     }
 
     #[test]

@@ -129,6 +129,15 @@ pub trait Arith:
     #[must_use]
     fn is_finite(self) -> bool;
 
+    /// Whether all three values are finite ([`Arith::is_finite`] of each).
+    /// Floats override it with a cheaper test of the same meaning.
+    #[must_use]
+    #[inline]
+    fn all_finite(v: [Self; 3]) -> bool {
+        let [a, b, c] = v;
+        a.is_finite() && b.is_finite() && c.is_finite()
+    }
+
     /// Converts from `f64`, rounding to nearest. `None` when `v` is not
     /// finite or lies outside the representable range.
     #[must_use]
@@ -173,7 +182,29 @@ pub trait Real: Arith {
     #[must_use]
     fn atan2(self, x: Self) -> Self;
 
+    /// [`Real::atan2`] for arguments known to be finite, not both zero,
+    /// with `|self| + |x| < 1e30`: an implementation may skip its checks
+    /// for other inputs. Outside that range the result is unspecified (for
+    /// floats, possibly wrong or NaN), but the call never panics. The
+    /// default is [`Real::atan2`] itself.
+    #[must_use]
+    #[inline]
+    fn atan2_bounded(self, x: Self) -> Self {
+        self.atan2(x)
+    }
+
     /// `(sin(self), cos(self))` for an angle in radians.
     #[must_use]
     fn sin_cos(self) -> (Self, Self);
+
+    /// [`Real::sin_cos`] for an angle known to be finite and within 1e4
+    /// radians of zero: an implementation may skip its checks for other
+    /// inputs. Outside that range the result is unspecified (for floats,
+    /// possibly wrong or NaN), but the call never panics. The default is
+    /// [`Real::sin_cos`] itself.
+    #[must_use]
+    #[inline]
+    fn sin_cos_bounded(self) -> (Self, Self) {
+        self.sin_cos()
+    }
 }
