@@ -10,15 +10,21 @@
 //! differences of the centres' heights or coordinates, which vanish at
 //! ordinary poses (all elbows at equal heights, for one). This module uses
 //! the circumcentre form of trilateration instead, which divides only by
-//! `|n|^2`, the squared area of the triangle of centres (zero only when the
-//! centres are collinear, which is a degenerate machine):
+//! `|n|`, twice the area of the triangle of centres (zero only when the
+//! centres are collinear: the three lower arms are then coplanar, a
+//! parallel singularity):
 //!
 //! ```text
-//!   u = C_1 - C_0,  v = C_2 - C_0,  n = u x v
-//!   Q = C_0 + (|u|^2 (v x n) + |v|^2 (n x u)) / (2 |n|^2)   circumcentre
+//!   u = C_1 - C_0,  v = C_2 - C_0,  n = u x v,  m = n / |n|
+//!   Q = C_0 + (|u|^2 (v x m) + |v|^2 (m x u)) / (2 |n|)     circumcentre
 //!   h^2 = 1 - |Q - C_0|^2                                  height above it
-//!   p = Q -+ sqrt(h^2 / |n|^2) n                           lower of the two
+//!   p = Q -+ h m                                           lower of the two
 //! ```
+//!
+//! (Dividing by `|n|` instead of the textbook `|n|^2` keeps every
+//! intermediate value of order one, which matters to a bounded number
+//! type: fixed point cannot hold `1 / |n|^2` for the small triangles of
+//! machines with a short upper arm.)
 //!
 //! (The circumcentre formula is the standard vector form, see e.g.
 //! "Circumscribed circle", section "Higher dimensions", in any analytic
@@ -26,7 +32,7 @@
 //! R. L. Williams II, "The Delta Parallel Robot: Kinematics Solutions",
 //! Ohio University, 2016, which intersects the same three spheres.)
 //! Equal heights and every other ordinary pose are handled without special
-//! cases. Cost: three sine/cosine pairs, one square root, one division and
+//! cases. Cost: three sine/cosine pairs, two square roots, one division and
 //! about 60 multiplications and additions.
 
 use crate::error::Error;
@@ -85,24 +91,29 @@ pub(crate) fn solve<S: Real>(robot: &Robot<S>, trig: [(S, S); 3]) -> Result<([S;
     let u = sub(e1, p0);
     let v = sub(e2, p0);
     let n = cross(u, v);
-    let n2 = dot(n, n);
-    let inv_2n2 = S::ONE.checked_div(S::TWO * n2).ok_or(Error::NearParallelSingularity)?;
+    // The unit normal m = n / |n|, and 1 / (2 |n|): dividing by |n| rather
+    // than |n|^2 keeps every intermediate of order one, which a bounded
+    // number type (fixed point) needs when the centres' triangle is small.
+    let n_len = dot(n, n).sqrt();
+    let inv_2n = S::ONE.checked_div(S::TWO * n_len).ok_or(Error::NearParallelSingularity)?;
+    let inv_n = inv_2n + inv_2n;
+    let m = [n[0] * inv_n, n[1] * inv_n, n[2] * inv_n];
     let uu = dot(u, u);
     let vv = dot(v, v);
-    let vn = cross(v, n);
-    let nu = cross(n, u);
+    let vm = cross(v, m);
+    let mu = cross(m, u);
     let q =
-        [(uu * vn[0] + vv * nu[0]) * inv_2n2, (uu * vn[1] + vv * nu[1]) * inv_2n2, (uu * vn[2] + vv * nu[2]) * inv_2n2];
+        [(uu * vm[0] + vv * mu[0]) * inv_2n, (uu * vm[1] + vv * mu[1]) * inv_2n, (uu * vm[2] + vv * mu[2]) * inv_2n];
     let h2 = S::ONE - dot(q, q);
     if !(h2 >= S::ZERO) {
         return Err(Error::NoAssembly);
     }
-    // h2 <= 1 and 1/n2 is finite, so the product cannot overflow.
-    let t = (h2 * (inv_2n2 + inv_2n2)).sqrt();
-    let t = if n[2] > S::ZERO { -t } else { t };
-    let p = [p0[0] + q[0] + t * n[0], p0[1] + q[1] + t * n[1], p0[2] + q[2] + t * n[2]];
+    // The lower of the two points: along -m when m points up.
+    let h = h2.sqrt();
+    let t = if m[2] > S::ZERO { -h } else { h };
+    let p = [p0[0] + q[0] + t * m[0], p0[1] + q[1] + t * m[1], p0[2] + q[2] + t * m[2]];
     // A bounded number type (fixed point) gives not-a-number when a nearly
-    // collinear set of centres drives `t` out of range: report it as the
+    // collinear set of centres drives `q` out of range: report it as the
     // singularity it is close to rather than return it.
     if S::all_finite(p) { Ok((p, [sub(p, p0), sub(p, e1), sub(p, e2)])) } else { Err(Error::NearParallelSingularity) }
 }
