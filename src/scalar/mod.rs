@@ -1,8 +1,9 @@
 //! The number types the solvers run on.
 //!
 //! Every solver in deltakin is written once, generic over [`Real`], and
-//! instantiated for `f32` (the firmware path), `f64` (host tools) and, later,
-//! a fixed-point type. The traits are deliberately small:
+//! instantiated for `f32` (the firmware path on parts with an FPU), `f64`
+//! (host tools) and [`Fixed`] (parts without one). The traits are
+//! deliberately small:
 //!
 //! * [`Arith`] is plain arithmetic, comparison, a checked division and the
 //!   handful of constants the algorithms use.
