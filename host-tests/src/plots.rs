@@ -107,15 +107,32 @@ fn legend(
     Ok(())
 }
 
+/// The chart type of the shaded maps: mm on both axes.
+type MapChart<'a, DB> =
+    ChartContext<'a, DB, Cartesian2d<plotters::coord::types::RangedCoordf64, plotters::coord::types::RangedCoordf64>>;
+
+/// Axes of a shaded map: no grid lines (the cells fill the area), the
+/// axis names in words with their units.
+fn map_axes<DB: DrawingBackend>(chart: &mut MapChart<'_, DB>, x_desc: &str, y_desc: &str) -> PlotResult<()>
+where
+    DB::ErrorType: 'static,
+{
+    chart
+        .configure_mesh()
+        .disable_mesh()
+        .x_desc(x_desc)
+        .y_desc(y_desc)
+        .label_style(("sans-serif", FONT - 2))
+        .axis_desc_style(("sans-serif", FONT))
+        .draw()?;
+    Ok(())
+}
+
 /// A shaded cell per grid point; runs of equal colour along a row or a
 /// column (consecutive in `values`) are drawn as one rectangle, which
 /// keeps the SVG small.
 fn cells<DB: DrawingBackend>(
-    chart: &mut ChartContext<
-        '_,
-        DB,
-        Cartesian2d<plotters::coord::types::RangedCoordf64, plotters::coord::types::RangedCoordf64>,
-    >,
+    chart: &mut MapChart<'_, DB>,
     values: &[((f64, f64), RGBColor)],
     half: (f64, f64),
 ) -> PlotResult<()>
@@ -235,14 +252,7 @@ fn workspace_xy(path: &Path, robot: &Robot<f64>, usable: Option<&UsableVolume>, 
             .x_label_area_size(42)
             .y_label_area_size(62)
             .build_cartesian_2d(-v.half..v.half, -v.half..v.half)?;
-        chart
-            .configure_mesh()
-            .disable_mesh()
-            .x_desc("x (mm)")
-            .y_desc("y (mm)")
-            .label_style(("sans-serif", FONT - 2))
-            .axis_desc_style(("sans-serif", FONT))
-            .draw()?;
+        map_axes(&mut chart, "x (mm)", "y (mm)")?;
         cells(&mut chart, &values, (h, h))?;
         if let Some(u) = usable {
             let c = u.cylinder;
@@ -298,14 +308,7 @@ fn workspace_xz(path: &Path, robot: &Robot<f64>, usable: Option<&UsableVolume>, 
         .x_label_area_size(45)
         .y_label_area_size(65)
         .build_cartesian_2d(-v.half..v.half, v.z.0..v.z.1)?;
-    chart
-        .configure_mesh()
-        .disable_mesh()
-        .x_desc("x (mm)")
-        .y_desc("z (mm)")
-        .label_style(("sans-serif", FONT - 2))
-        .axis_desc_style(("sans-serif", FONT))
-        .draw()?;
+    map_axes(&mut chart, "x (mm)", "z (mm)")?;
     cells(&mut chart, &values, (0.5 * (xs[1] - xs[0]), 0.5 * (zs[1] - zs[0])))?;
     if let Some(u) = usable {
         let c = u.cylinder;
@@ -405,14 +408,7 @@ fn error_map(
         .x_label_area_size(45)
         .y_label_area_size(65)
         .build_cartesian_2d(-v.half..v.half, -v.half..v.half)?;
-    chart
-        .configure_mesh()
-        .disable_mesh()
-        .x_desc("x (mm)")
-        .y_desc("y (mm)")
-        .label_style(("sans-serif", FONT - 2))
-        .axis_desc_style(("sans-serif", FONT))
-        .draw()?;
+    map_axes(&mut chart, "x (mm)", "y (mm)")?;
     let h = 0.5 * (xs[1] - xs[0]);
     cells(&mut chart, &values, (h, h))?;
     let mut lines = Vec::new();

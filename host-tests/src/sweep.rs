@@ -310,15 +310,7 @@ pub fn cartesian(robot: &Robot<f64>, density: Density) -> PointSet {
     let dense = grid(&grid_box, density.grid);
     let accepted = accepted_of(&dense, &accept);
     let centre = central_point(&accepted);
-    let h = grid_box.spacing(density.grid);
-    let plan = ShellPlan {
-        step: 0.5 * h.iter().copied().fold(f64::INFINITY, f64::min),
-        reach: outer.diagonal(),
-        depths: CARTESIAN_SHELL_DEPTHS_MM,
-    };
-    let rays = density.rays();
-    let shell = centre.map_or_else(Vec::new, |c| shell_parallel(&accept, c, &sphere_directions(rays), &plan));
-    PointSet { grid_box, grid_n: density.grid, grid: dense, centre, rays, shell }
+    with_shell(&accept, density, grid_box, dense, centre, outer.diagonal(), CARTESIAN_SHELL_DEPTHS_MM)
 }
 
 /// The joint sweep for FK.
@@ -330,14 +322,25 @@ pub fn joint(robot: &Robot<f64>, density: Density) -> PointSet {
     let accepted = accepted_of(&dense, &accept);
     let mid = snap_f32([0, 1, 2].map(|k| 0.5 * (grid_box.lo[k] + grid_box.hi[k])));
     let centre = if accept(mid) { Some(mid) } else { central_point(&accepted) };
+    with_shell(&accept, density, grid_box, dense, centre, grid_box.diagonal(), JOINT_SHELL_DEPTHS_RAD)
+}
+
+/// Completes a point set: the boundary shell from rays out of `centre`
+/// (half a grid cell per step, out to `reach`, points at `depths` inside
+/// the boundary), beside the dense grid.
+fn with_shell(
+    accept: &(dyn Fn([f64; 3]) -> bool + Sync),
+    density: Density,
+    grid_box: Box3,
+    dense: Vec<[f64; 3]>,
+    centre: Option<[f64; 3]>,
+    reach: f64,
+    depths: [f64; 3],
+) -> PointSet {
     let h = grid_box.spacing(density.grid);
-    let plan = ShellPlan {
-        step: 0.5 * h.iter().copied().fold(f64::INFINITY, f64::min),
-        reach: grid_box.diagonal(),
-        depths: JOINT_SHELL_DEPTHS_RAD,
-    };
+    let plan = ShellPlan { step: 0.5 * h.iter().copied().fold(f64::INFINITY, f64::min), reach, depths };
     let rays = density.rays();
-    let shell = centre.map_or_else(Vec::new, |c| shell_parallel(&accept, c, &sphere_directions(rays), &plan));
+    let shell = centre.map_or_else(Vec::new, |c| shell_parallel(accept, c, &sphere_directions(rays), &plan));
     PointSet { grid_box, grid_n: density.grid, grid: dense, centre, rays, shell }
 }
 
