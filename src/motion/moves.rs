@@ -204,7 +204,7 @@ impl<S: Real, P: Real<Wide = P>> PlannedMove<S, P> {
 }
 
 fn finite3<P: Arith>(v: [P; 3]) -> Result<[P; 3], MotionError> {
-    if S::all_finite(v) { Ok(v) } else { Err(MotionError::invalid(MoveFault::NonFinite)) }
+    if P::all_finite(v) { Ok(v) } else { Err(MotionError::invalid(MoveFault::NonFinite)) }
 }
 
 fn norm3<P: Real>(v: [P; 3]) -> P {
