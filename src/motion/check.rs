@@ -1,20 +1,42 @@
 //! Validation before motion, and time scaling.
 //!
 //! A move is sampled at every cycle the stream will emit for it (the same
-//! function, the same arguments, so the same bits). Each sample must pass
-//! the guarded kinematics ([`crate::Robot::inverse`], or
-//! [`crate::Robot::forward`] for a joint move): reachable, inside the joint
-//! ranges, the passive-joint cones and the singularity margins. Any
-//! failure rejects the move, naming the cycle and (through the kinematic
-//! error) the arm and the limit: slowing down does not change where the
-//! path goes.
+//! function, the same arguments, so the same bits), and at its start.
+//! What is checked, and what happens when it fails:
 //!
-//! Joint speeds come from the Jacobian at each sample; joint
-//! accelerations from the difference of successive cycles' joint speeds
-//! divided by the period (what a servo following the setpoints sees),
-//! starting and ending at rest. When one exceeds its limit the move is
-//! stretched in time by
-//! `r = max(speed usage, sqrt(acceleration usage)) * (1 + 1/256)`:
+//! * **Each sample** must pass the guarded kinematics
+//!   ([`crate::Robot::inverse`], or [`crate::Robot::forward`] for a joint
+//!   move): reachable, inside the joint ranges, the passive-joint cones
+//!   and the singularity margins. A failure refuses the move
+//!   ([`MotionFault::Kinematics`]), naming the cycle and (through the
+//!   kinematic error) the arm and the limit: slowing down does not change
+//!   where the path goes.
+//! * **Between samples** no point of the path may violate a guard: each
+//!   sample is checked against its limits tightened by how far the
+//!   guarded quantities can move along the stretch of path to the next
+//!   sample (see [`super::between`] for the bound and why it is sound). A
+//!   failure refuses the move ([`MotionFault::BetweenCycles`]) unless the
+//!   move is being slowed anyway for a rate limit, in which case the
+//!   slower move (shorter stretches) is checked again.
+//! * **Joint speed**: the larger of the Jacobian rate at each sample and
+//!   the step from the previous sample over the period (a move shorter
+//!   than a cycle has zero rates at its one sample, but not a zero step).
+//! * **Joint acceleration**: the change of successive samples' Jacobian
+//!   rates over the period (what a servo following the setpoints sees),
+//!   starting and ending at rest; and the step must agree with the mean of
+//!   its two rates to within `accel * period / 2` plus
+//!   [`JOINT_ROUNDING_RAD`] twice over the period (a trajectory whose
+//!   acceleration stays within `accel` differs by at most
+//!   `accel * period / 4`), counted as acceleration usage.
+//! * **Tool acceleration** (Cartesian moves): the magnitude of the tool's
+//!   acceleration, `sqrt(a_t^2 + (v^2 kappa)^2)` with the law's tangential
+//!   acceleration `a_t` and speed `v` (the larger of the cycle's two ends)
+//!   and the largest curvature `kappa` of any arc the cycle's stretch
+//!   touches, within the move's acceleration bound.
+//!
+//! When a speed or acceleration exceeds its limit the move is stretched
+//! in time by
+//! `r = max(speed usage, sqrt(acceleration usage), sqrt(tool usage)) * (1 + 1/256)`:
 //! speeds scale by `1/r` and accelerations by `1/r^2`, so one pass nearly
 //! always suffices; sampling changes slightly with the stretch, so the
 //! stretched move is checked again, for at most [`TIME_SCALING_PASSES`]
@@ -23,12 +45,14 @@
 //! cycle, arm and limit of the last pass.
 //!
 //! # Cost
-//! At most `TIME_SCALING_PASSES x cycles` samples, `cycles <=`
+//! At most `TIME_SCALING_PASSES x (cycles + 1)` samples, `cycles <=`
 //! [`MAX_MOVE_CYCLES`]; each sample costs one setpoint (time law, path,
 //! guarded inverse kinematics and Jacobian, the same as one stream cycle,
-//! see the `motion` benchmark) plus about 15 operations for the limits. A
-//! move that needs no scaling costs exactly one pass: for a 0.3 s move at
-//! 4 kHz, 1,200 setpoints.
+//! see the `motion` benchmark) plus, in the planning type, about 150
+//! operations and four square roots for the limits, the bounds between
+//! samples and the tool's acceleration (one time-law sample). A move
+//! that needs no scaling costs exactly one pass: for a 0.3 s move at
+//! 4 kHz, 1,201 samples.
 
 use super::between::{Pose, Reach, Travel};
 use super::error::{MotionError, MotionFault, MoveFault};

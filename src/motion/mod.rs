@@ -8,9 +8,10 @@
 //! * `path`: straight line, pick-and-place cycle with rounded corners,
 //!   two lines joined by a tangent arc, dwell, joint-space line.
 //! * [`Move`] describes a move; [`Stream::plan`] / [`Stream::push`] turn it
-//!   into a [`PlannedMove`] after checking every cycle of it (see
-//!   [`check`] for what is checked, how moves are slowed down instead of
-//!   rejected, and what the check costs).
+//!   into a [`PlannedMove`] after checking every cycle of it and the path
+//!   between cycles (see [`check`] for what is checked, how moves are
+//!   slowed down instead of rejected, and what the check costs, and
+//!   [`between`] for the guarantee between setpoints).
 //! * [`Stream`] holds a fixed-capacity queue of planned moves and yields
 //!   one [`Setpoint`] per control cycle: platform position, joint angles
 //!   (guarded inverse kinematics) and joint rates (Jacobian), with a flag

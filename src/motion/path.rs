@@ -9,7 +9,9 @@
 //!   length and its tangent is continuous, so the path speed given by the
 //!   time law is the platform speed and the velocity never jumps (the
 //!   centripetal acceleration `v^2 / r` appears where an arc begins and
-//!   ends; the validation checks what it does to the joints).
+//!   ends; the validation keeps it, with the tangential acceleration,
+//!   within the move's acceleration bound, and checks what it does to the
+//!   joints).
 //! * Chain: consecutive straight lines joined by tangent circular arcs,
 //!   for line moves the stream joins into one (see [`super::Stream`]).
 //!   Parameterised by arc length like the pick cycle; a collinear corner

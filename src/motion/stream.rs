@@ -23,6 +23,9 @@ pub struct Accepted<S> {
     pub speed_usage: S,
     /// Peak joint acceleration over the move as a fraction of its limit.
     pub accel_usage: S,
+    /// Peak tool acceleration over the move as a fraction of the move's
+    /// Cartesian acceleration bound (0 for a joint move or a dwell).
+    pub tool_accel_usage: S,
     /// Whether the move was joined to the previous one through their
     /// corner (see [`Stream`]); `cycles`, `stretch` and the usages are
     /// then those of the joined pair.
@@ -78,6 +81,9 @@ pub struct StreamSetpoint<S: Arith> {
 /// * speed through the corners: the joined law's speed bound is lowered
 ///   to `sqrt(a r)` for the smallest arc, `a` the path acceleration
 ///   bound, so the centripetal acceleration on every arc stays within it;
+///   where the law still accelerates on an arc, the validation's
+///   tool-acceleration check (see [`super::check`]) slows the joined move
+///   until the magnitude of the tool's acceleration is within `a`;
 ///   the junction speed is the law's speed there: the full speed through
 ///   a collinear or shallow corner, `sqrt(a r)` at most through a tighter
 ///   one, zero (a stop) through a reversal;
@@ -213,6 +219,7 @@ impl<S: Real, P: Real<Wide = P>, const N: usize> Stream<S, N, P> {
             time_scaled: planned.time_scaled(),
             speed_usage: planned.speed_usage(),
             accel_usage: planned.accel_usage(),
+            tool_accel_usage: planned.tool_accel_usage(),
             joined: false,
         })
     }
@@ -246,6 +253,7 @@ impl<S: Real, P: Real<Wide = P>, const N: usize> Stream<S, N, P> {
             time_scaled: joined.time_scaled(),
             speed_usage: joined.speed_usage(),
             accel_usage: joined.accel_usage(),
+            tool_accel_usage: joined.tool_accel_usage(),
             joined: true,
         })
     }
