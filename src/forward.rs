@@ -94,7 +94,10 @@ pub(crate) fn solve<S: Real>(robot: &Robot<S>, trig: [(S, S); 3]) -> Result<([S;
     // The unit normal m = n / |n|, and 1 / (2 |n|): dividing by |n| rather
     // than |n|^2 keeps every intermediate of order one, which a bounded
     // number type (fixed point) needs when the centres' triangle is small.
-    let n_len = dot(n, n).sqrt();
+    // Through `length3`: a short upper arm makes the triangle, and so `n`,
+    // small, and its length must keep its relative precision (for fixed
+    // point an exact sum of squares; floats compute `dot(n, n).sqrt()`).
+    let n_len = S::length3(n);
     let inv_2n = S::ONE.checked_div(S::TWO * n_len).ok_or(Error::NearParallelSingularity)?;
     let inv_n = inv_2n + inv_2n;
     let m = [n[0] * inv_n, n[1] * inv_n, n[2] * inv_n];

@@ -26,7 +26,8 @@
 //! and the conventions' elbow-out branch (the larger `cos t`) is the one
 //! with `+|B| w` in the cosine. The angle is `atan2` of the two numerators,
 //! so no division is needed for it; one division by `rho^2` gives the
-//! elbow's sine and cosine without calling `sin_cos`.
+//! elbow's sine and cosine without calling `sin_cos` (two divisions when
+//! `rho^2 < 1/16`, where its reciprocal could overflow a bounded type).
 //!
 //! The same two numerators give the serial margin for free. The margin is
 //! `s . dE/dt / a` with `s` the unit rod, i.e. `sin t X + cos t z` (the
@@ -127,8 +128,17 @@ fn solve_arm<S: Real>(robot: &Robot<S>, arm: u8, q: [S; 3]) -> Result<ArmState<S
     let (abs_b, sgn_b_w) = if cb < S::ZERO { (-cb, -w) } else { (cb, w) };
     let cos_num = ca * k + abs_b * w;
     let sin_num = cb * k - sgn_b_w * ca;
-    let inv_rho2 = S::ONE.checked_div(rho2).ok_or(unreachable)?;
-    let (sin, cos) = (sin_num * inv_rho2, cos_num * inv_rho2);
+    // One reciprocal and two products; but when the platform joint passes
+    // within a quarter lower arm of the actuator axis (rho^2 < 1/16,
+    // reachable with a long upper arm at a serial margin of 0.1) the
+    // reciprocal can leave a bounded type's range, so there the two
+    // quotients, which never exceed 1, are taken directly.
+    let (sin, cos) = if rho2 >= S::HALF * S::HALF * S::HALF * S::HALF {
+        let inv_rho2 = S::ONE.checked_div(rho2).ok_or(unreachable)?;
+        (sin_num * inv_rho2, cos_num * inv_rho2)
+    } else {
+        (sin_num.checked_div(rho2).ok_or(unreachable)?, cos_num.checked_div(rho2).ok_or(unreachable)?)
+    };
     let [rx, _, rz] = rod_vector(robot, q, sin, cos);
     // The numerators are finite and form a vector of length rho^2, which
     // is above zero (its reciprocal is finite) and below (1 + a)^2 < 4:

@@ -714,6 +714,15 @@ impl Real for Fixed {
         Self(cordic::sqrt(self.0))
     }
 
+    /// Exact sum of squares in Q.50 and a correctly rounded root (at most
+    /// 0.5 LSB below a length of 8): a vector of length 0.1 keeps its full
+    /// relative precision, where three rounded Q7.25 squares would cost 50
+    /// LSBs of it. NaN from a length of 64 on.
+    #[inline]
+    fn length3(v: [Self; 3]) -> Self {
+        Self(cordic::length3(v.map(|c| c.0)))
+    }
+
     /// CORDIC vectoring, error at most
     /// [`super::ATAN2_MAX_ERROR_LSB`] LSB.
     #[inline]

@@ -178,6 +178,21 @@ pub trait Real: Arith {
     #[must_use]
     fn sqrt(self) -> Self;
 
+    /// Euclidean length `sqrt(x^2 + y^2 + z^2)` of the vector `v`.
+    ///
+    /// Valid for any finite vector whose squared length the type can
+    /// hold. The default squares, sums in the order x, y, z and takes
+    /// [`Real::sqrt`] (for floats: the same operations, in the same order,
+    /// as writing it out). Fixed point overrides it with an exact sum of
+    /// squares, so that a short vector keeps its relative precision (see
+    /// [`Fixed`]).
+    #[must_use]
+    #[inline]
+    fn length3(v: [Self; 3]) -> Self {
+        let [x, y, z] = v;
+        (x * x + y * y + z * z).sqrt()
+    }
+
     /// Four-quadrant arc tangent of `self / x` in radians, in `[-pi, pi]`.
     /// `atan2(0, 0)` returns 0.
     #[must_use]
