@@ -30,9 +30,11 @@
 //! move that needs no scaling costs exactly one pass: for a 0.3 s move at
 //! 4 kHz, 1,200 setpoints.
 
+use super::between::{Pose, Reach, Travel};
 use super::error::{MotionError, MotionFault, MoveFault};
-use super::law::{constant, convert, div};
+use super::law::{Profile, constant, convert, div};
 use super::moves::{Lines, Move, PlannedMove, Setpoint, Shaped, shape};
+use super::path::MAX_JOINED_LINES;
 use crate::robot::Robot;
 use crate::scalar::{Arith, Real};
 
@@ -46,6 +48,11 @@ pub const MAX_TIME_STRETCH: f64 = 64.0;
 
 /// Most validation passes per move (the first at the requested speed).
 pub const TIME_SCALING_PASSES: usize = 4;
+
+/// Rounding allowed on each setpoint's joint angles (rad) when its step is
+/// compared with its rates: twice the fixed-point inverse kinematics'
+/// documented bound (5e-6 rad), twenty times f32's measured worst.
+pub const JOINT_ROUNDING_RAD: f64 = 1.0e-5;
 
 /// Extra stretch added on top of the measured need, so that sampling
 /// changes do not leave the move a hair over its limits.
@@ -67,6 +74,11 @@ pub(crate) struct Checker<P> {
     rate: P,
     inv_speed: [P; 3],
     inv_accel: [P; 3],
+    /// `1 /` the largest gap allowed between a setpoint's step and the
+    /// mean of its two Jacobian rates (rad/s), per arm.
+    inv_step_gap: [P; 3],
+    /// The robot's dimensions and limits, for the guards between samples.
+    reach: Reach<P>,
 }
 
 fn positive<P: Real>(v: P) -> Result<P, MotionError> {
@@ -84,13 +96,19 @@ fn inverse3<P: Real>(v: [P; 3]) -> Result<[P; 3], MotionError> {
 }
 
 impl<P: Real> Checker<P> {
-    pub(crate) fn new(period: P, limits: &JointRateLimits<P>) -> Result<Self, MotionError> {
+    pub(crate) fn new<S: Real>(robot: &Robot<S>, period: P, limits: &JointRateLimits<P>) -> Result<Self, MotionError> {
         let period = positive(period)?;
+        let rate = div(P::ONE, period)?;
+        let rounding = constant::<P>(2.0 * JOINT_ROUNDING_RAD)? * rate;
+        let accel = [positive(limits.accel[0])?, positive(limits.accel[1])?, positive(limits.accel[2])?];
+        let gap = accel.map(|a| a * period * P::HALF + rounding);
         Ok(Self {
             period,
-            rate: div(P::ONE, period)?,
+            rate,
             inv_speed: inverse3(limits.speed)?,
-            inv_accel: inverse3(limits.accel)?,
+            inv_accel: inverse3(accel)?,
+            inv_step_gap: inverse3(gap)?,
+            reach: Reach::new(robot)?,
         })
     }
 }
@@ -99,43 +117,208 @@ impl<P: Real> Checker<P> {
 struct Scan<S: Arith, P> {
     speed: P,
     accel: P,
+    tool: P,
+    /// The first limit (speed, acceleration) over, which time scaling
+    /// may fix.
     first_over: Option<MotionError>,
+    /// The first guard that could be crossed between samples.
+    first_between: Option<MotionError>,
     last: Option<Setpoint<S>>,
 }
 
-/// Samples every cycle of `mv`. The joint rates come out of the stream's
+/// A path's arcs in the planning type: `(start, end, 1/r)`, arc length
+/// in mm.
+struct Curves<P> {
+    arcs: [(P, P, P); MAX_JOINED_LINES - 1],
+    count: usize,
+}
+
+impl<P: Real> Curves<P> {
+    fn new<S: Real>(mv: &PlannedMove<S, P>) -> Result<Self, MotionError> {
+        let found = mv.path.arcs();
+        let mut arcs = [(P::ZERO, P::ZERO, P::ONE); MAX_JOINED_LINES - 1];
+        for (slot, &(b_in, b_out, r)) in arcs.iter_mut().zip(found.arcs.iter()).take(found.count) {
+            *slot = (convert(b_in)?, convert(b_out)?, div(P::ONE, convert(r)?)?);
+        }
+        Ok(Self { arcs, count: found.count })
+    }
+
+    /// The largest curvature (1/mm) of any arc the stretch from arc
+    /// length `from` to `to` (mm) touches.
+    fn curvature(&self, from: P, to: P) -> P {
+        let mut k = P::ZERO;
+        for &(b_in, b_out, inv_r) in self.arcs.iter().take(self.count) {
+            if b_in <= to && b_out >= from {
+                k = k.max_of(inv_r);
+            }
+        }
+        k
+    }
+}
+
+/// The tool's acceleration on a Cartesian move with a bound: the bound
+/// and the time stretch, to sample the unscaled law as streamed.
+struct Tool<P> {
+    inv_bound: P,
+    /// `period / stretch` (law seconds per cycle) and `1 / stretch`.
+    law_step: P,
+    inv_stretch: P,
+}
+
+impl<P: Real> Tool<P> {
+    fn new<S: Real>(shaped: &Shaped<S, P>, mv: &PlannedMove<S, P>) -> Result<Option<Self>, MotionError> {
+        let Some(bound) = shaped.accel_bound else { return Ok(None) };
+        Ok(Some(Self {
+            inv_bound: div(P::ONE, positive(bound)?)?,
+            law_step: div(mv.period, mv.stretch)?,
+            inv_stretch: div(P::ONE, mv.stretch)?,
+        }))
+    }
+
+    /// Speed (mm/s) and tangential acceleration (mm/s^2) at the end of
+    /// cycle `cycle`, as streamed (stretched).
+    fn at(&self, profile: &Profile<P>, cycle: u32) -> Result<(P, P), MotionError> {
+        let t = constant::<P>(f64::from(cycle))? * self.law_step;
+        let s = profile.sample(t);
+        Ok((s.vel * self.inv_stretch, s.acc * self.inv_stretch * self.inv_stretch))
+    }
+}
+
+/// Samples every cycle of `mv` (the shaped move `shaped` as planned): the
+/// guarded kinematics at each setpoint and the guards between them (see
+/// [`super::between`]), which refuse the move; the joint speeds and
+/// accelerations and the tool's acceleration, which time scaling can
+/// bring within their limits. The joint rates come out of the stream's
 /// own arithmetic (`S`); the limits are compared in the planning type.
+///
+/// Joint speed is the larger of the Jacobian rate at the setpoint and the
+/// step from the previous setpoint divided by the period (what the servo
+/// sees: a move shorter than a cycle has zero rates at its one setpoint,
+/// but not a zero step). Joint acceleration is the change of the Jacobian
+/// rates over the period; and the step must agree with the mean of the
+/// two rates it lies between to within `accel * period / 2` plus
+/// [`JOINT_ROUNDING_RAD`] twice over the period (a trajectory whose
+/// acceleration stays within `accel` differs by at most `accel * period
+/// / 4`: the mean of a Lipschitz rate against its trapezoid average),
+/// counted as acceleration usage, so that setpoints that jump further
+/// than their rates say are slowed down or refused like any other
+/// acceleration. The platform is at rest before the first and after the
+/// last setpoint.
 fn scan<S: Real, P: Real<Wide = P>>(
     robot: &Robot<S>,
     checker: &Checker<P>,
+    shaped: &Shaped<S, P>,
     mv: &PlannedMove<S, P>,
 ) -> Result<Scan<S, P>, MotionError> {
-    let mut out = Scan { speed: P::ZERO, accel: P::ZERO, first_over: None, last: None };
-    let mut prev = [P::ZERO; 3];
-    for cycle in 1..=mv.cycles.min(MAX_MOVE_CYCLES) {
-        let sp = mv.setpoint(robot, cycle).map_err(|e| MotionError { cycle, fault: e.into() })?;
-        let rates: [P; 3] = [convert(sp.joint_rates[0])?, convert(sp.joint_rates[1])?, convert(sp.joint_rates[2])?];
-        let arms = rates.iter().zip(prev.iter()).zip(checker.inv_speed.iter().zip(checker.inv_accel.iter()));
-        for (arm, ((&w, &w_prev), (&inv_v, &inv_a))) in arms.enumerate() {
-            #[allow(clippy::cast_possible_truncation)] // arm < 3
-            let arm = arm as u8;
-            let speed = w.abs() * inv_v;
-            let accel = ((w - w_prev) * checker.rate).abs() * inv_a;
-            // `!(x <= 1)` also flags NaN.
-            if out.first_over.is_none() {
-                if !(speed <= P::ONE) {
-                    out.first_over = Some(MotionError { cycle, fault: MotionFault::JointSpeed { arm } });
-                } else if !(accel <= P::ONE) {
-                    out.first_over = Some(MotionError { cycle, fault: MotionFault::JointAccel { arm } });
-                }
+    let mut out =
+        Scan { speed: P::ZERO, accel: P::ZERO, tool: P::ZERO, first_over: None, first_between: None, last: None };
+    let at_start = mv.checked_setpoint(robot, 0).map_err(|e| MotionError { cycle: 0, fault: e.into() })?;
+    let mut pose = Pose::new(at_start.setpoint.joints, &at_start.margins)?;
+    let mut sigma: P = convert(at_start.sigma)?;
+    let length: Option<P> = match mv.path.cartesian_length() {
+        Some(l) => Some(convert(l)?),
+        None => None,
+    };
+    let tool = Tool::new(shaped, mv)?;
+    let curves = Curves::new(mv)?;
+    let mut law_prev = (P::ZERO, P::ZERO);
+    let mut prev_rates = [P::ZERO; 3];
+    let cycles = mv.cycles.min(MAX_MOVE_CYCLES);
+    for cycle in 1..=cycles {
+        // A failed sample refuses the move; an earlier crossing between
+        // samples is reported first.
+        let c = mv
+            .checked_setpoint(robot, cycle)
+            .map_err(|e| out.first_between.unwrap_or(MotionError { cycle, fault: e.into() }))?;
+        let sp = c.setpoint;
+        let next = Pose::new(sp.joints, &c.margins)?;
+        let next_sigma: P = convert(c.sigma)?;
+        let mut curvature = P::ZERO;
+        let travel = match length {
+            Some(l) => {
+                curvature = curves.curvature(sigma * l, next_sigma * l);
+                Travel::Cartesian { length: (next_sigma - sigma) * l, curvature }
             }
-            out.speed = out.speed.max_of(speed);
-            out.accel = out.accel.max_of(accel);
+            None => Travel::Joints([
+                next.joints[0] - pose.joints[0],
+                next.joints[1] - pose.joints[1],
+                next.joints[2] - pose.joints[2],
+            ]),
+        };
+        let crossing = checker.reach.check(&pose, &next, travel, cycle - 1);
+        if out.first_between.is_none() {
+            out.first_between = crossing.err();
         }
-        prev = rates;
+        let rates: [P; 3] = [convert(sp.joint_rates[0])?, convert(sp.joint_rates[1])?, convert(sp.joint_rates[2])?];
+        let mut step = [P::ZERO; 3];
+        for (arm, slot) in step.iter_mut().enumerate() {
+            if let (Some(&now), Some(&before)) = (next.joints.get(arm), pose.joints.get(arm)) {
+                *slot = (now - before) * checker.rate;
+            }
+        }
+        let joint = joint_usage(checker, rates, prev_rates, step);
+        out.note(joint, cycle);
+        if let Some(tool) = &tool {
+            let law = tool.at(&shaped.profile, cycle)?;
+            let ((v, a), (v0, a0)) = (law, law_prev);
+            let speed = v.max_of(v0);
+            let centripetal = speed * speed * curvature;
+            let tangential = a.abs().max_of(a0.abs());
+            let usage = (tangential * tangential + centripetal * centripetal).sqrt() * tool.inv_bound;
+            out.tool = out.tool.max_of(usage);
+            if out.first_over.is_none() && !(usage <= P::ONE) {
+                out.first_over = Some(MotionError { cycle, fault: MotionFault::ToolAccel });
+            }
+            law_prev = law;
+        }
+        prev_rates = rates;
+        pose = next;
+        sigma = next_sigma;
         out.last = Some(sp);
     }
+    // At rest after the last setpoint: its rate stops.
+    let stop = joint_usage(checker, [P::ZERO; 3], prev_rates, [P::ZERO; 3]);
+    out.note(stop, cycles);
     Ok(out)
+}
+
+/// Per arm: speed and acceleration usage (fractions of the limits).
+type JointUsage<P> = [(P, P); 3];
+
+/// The joint speed and acceleration usage of one cycle: Jacobian rates
+/// `rates` after `prev_rates`, and the setpoint step (rad/s) `step`
+/// between them.
+fn joint_usage<P: Real>(checker: &Checker<P>, rates: [P; 3], prev_rates: [P; 3], step: [P; 3]) -> JointUsage<P> {
+    let mut usage = [(P::ZERO, P::ZERO); 3];
+    for (arm, slot) in usage.iter_mut().enumerate() {
+        let get = |v: &[P; 3]| v.get(arm).copied().unwrap_or(P::ZERO);
+        let (w, w0, q) = (get(&rates), get(&prev_rates), get(&step));
+        let speed = w.abs().max_of(q.abs()) * get(&checker.inv_speed);
+        let accel = (w - w0).abs() * checker.rate * get(&checker.inv_accel);
+        let gap = (q - (w + w0) * P::HALF).abs() * get(&checker.inv_step_gap);
+        *slot = (speed, accel.max_of(gap));
+    }
+    usage
+}
+
+impl<S: Arith, P: Real> Scan<S, P> {
+    /// Records one cycle's joint usage, and the first limit it exceeds.
+    fn note(&mut self, usage: JointUsage<P>, cycle: u32) {
+        for (arm, &(speed, accel)) in usage.iter().enumerate() {
+            #[allow(clippy::cast_possible_truncation)] // arm < 3
+            let arm = arm as u8;
+            // `!(x <= 1)` also flags NaN.
+            if self.first_over.is_none() {
+                if !(speed <= P::ONE) {
+                    self.first_over = Some(MotionError { cycle, fault: MotionFault::JointSpeed { arm } });
+                } else if !(accel <= P::ONE) {
+                    self.first_over = Some(MotionError { cycle, fault: MotionFault::JointAccel { arm } });
+                }
+            }
+            self.speed = self.speed.max_of(speed);
+            self.accel = self.accel.max_of(accel);
+        }
+    }
 }
 
 /// The move `shaped` stretched in time by at least `stretch`, rounded up
@@ -173,6 +356,7 @@ fn stretched<S: Real, P: Real<Wide = P>>(
         duration,
         speed_usage: P::ZERO,
         accel_usage: P::ZERO,
+        tool_accel_usage: P::ZERO,
         time_scaled: false,
     })
 }
@@ -209,10 +393,16 @@ pub(crate) fn validate<S: Real, P: Real<Wide = P>>(
     let mut refusal = MotionError::before_sampling(MotionFault::TooLong);
     for pass in 0..TIME_SCALING_PASSES {
         let mut planned = stretched(shaped, start, start_joints, checker.period, stretch)?;
-        let found = scan(robot, checker, &planned)?;
+        let found = scan(robot, checker, shaped, &planned)?;
         let Some(over) = found.first_over else {
+            // Within the rate limits: a guard crossing between samples
+            // is the path's own, and refuses the move.
+            if let Some(crossing) = found.first_between {
+                return Err(crossing);
+            }
             planned.speed_usage = found.speed;
             planned.accel_usage = found.accel;
+            planned.tool_accel_usage = found.tool;
             planned.time_scaled = pass > 0;
             if let Some(last) = found.last {
                 planned.end = last.position;
@@ -221,7 +411,7 @@ pub(crate) fn validate<S: Real, P: Real<Wide = P>>(
             return Ok(planned);
         };
         refusal = over;
-        let need = found.speed.max_of(found.accel.sqrt());
+        let need = found.speed.max_of(found.accel.sqrt()).max_of(found.tool.sqrt());
         // The stretch actually streamed (rounded up to whole cycles).
         let next = planned.stretch * need * headroom;
         if !(next <= max_stretch) {

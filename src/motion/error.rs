@@ -31,6 +31,17 @@ pub enum MotionFault {
     /// a passive-joint cone or a singularity margin (the inner error names
     /// the arm and the limit).
     Kinematics(Error),
+    /// A guard could be violated between two setpoints: a sample passed,
+    /// but the stretch of path from it to the next sample comes closer to
+    /// the limit than the sample's margin allows (see
+    /// [`super::between`]); the inner error names the arm and the limit,
+    /// the cycle is the sample the stretch leaves from (0: the move's
+    /// start).
+    BetweenCycles(Error),
+    /// The tool's acceleration (tangential and centripetal together)
+    /// exceeds the move's Cartesian acceleration bound even after the
+    /// largest allowed time scaling.
+    ToolAccel,
     /// The joint speed limit of this arm is exceeded even after the
     /// largest allowed time scaling.
     JointSpeed {
@@ -86,6 +97,8 @@ impl MotionError {
     pub const fn status_word(&self) -> &'static str {
         match self.fault {
             MotionFault::Kinematics(e) => e.status_word(),
+            MotionFault::BetweenCycles(e) => e.status_word(),
+            MotionFault::ToolAccel => "tool_accel",
             MotionFault::JointSpeed { .. } => "joint_speed",
             MotionFault::JointAccel { .. } => "joint_accel",
             MotionFault::InvalidMove(_) => "invalid_move",
@@ -112,6 +125,8 @@ impl fmt::Display for MotionFault {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
             MotionFault::Kinematics(e) => write!(f, "{e}"),
+            MotionFault::BetweenCycles(e) => write!(f, "between this cycle and the next: {e}"),
+            MotionFault::ToolAccel => f.write_str("tool acceleration bound exceeded"),
             MotionFault::JointSpeed { arm } => write!(f, "arm {arm} joint speed limit exceeded"),
             MotionFault::JointAccel { arm } => write!(f, "arm {arm} joint acceleration limit exceeded"),
             MotionFault::InvalidMove(why) => write!(f, "invalid move: {why}"),

@@ -57,6 +57,7 @@
 //! 3e-8 of the move) and Q18.14 for positions (6.1e-5 mm) and rates
 //! (6.1e-5 rad/s).
 
+pub mod between;
 pub mod check;
 mod error;
 pub mod law;
@@ -64,7 +65,8 @@ mod moves;
 mod path;
 mod stream;
 
-pub use check::{JointRateLimits, MAX_MOVE_CYCLES, MAX_TIME_STRETCH, TIME_SCALING_PASSES};
+pub use between::{TRAVEL_FLOOR_MM, TRAVEL_FLOOR_RAD, TRAVEL_SLACK};
+pub use check::{JOINT_ROUNDING_RAD, JointRateLimits, MAX_MOVE_CYCLES, MAX_TIME_STRETCH, TIME_SCALING_PASSES};
 pub use error::{MotionError, MotionFault, MoveFault};
 pub use law::{Bounds, Law, LawSample, Profile};
 pub use moves::{COLLINEAR_TURN, MAX_CORNER_RADIUS, MIN_CORNER_RADIUS, Move, PlannedMove, Setpoint};

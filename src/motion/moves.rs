@@ -10,6 +10,7 @@ use super::path::{Bend, Chain, MAX_JOINED_LINES, Path, Pick, Target};
 use crate::error::Error;
 use crate::robot::Robot;
 use crate::scalar::{Arith, Real};
+use crate::solution::Margins;
 
 /// One move, as a caller describes it, in the planning type `P` (a float
 /// type; see [`super::Stream`]). The start is always where the previous
@@ -106,6 +107,9 @@ pub struct PlannedMove<S: Arith, P = S> {
     /// of their limits.
     pub(crate) speed_usage: P,
     pub(crate) accel_usage: P,
+    /// Largest tool acceleration over the move as a fraction of the
+    /// move's Cartesian acceleration bound (0 for a joint move or a dwell).
+    pub(crate) tool_accel_usage: P,
     /// Whether the validation slowed the move down for a joint limit.
     pub(crate) time_scaled: bool,
 }
@@ -174,6 +178,15 @@ impl<S: Real, P: Real<Wide = P>> PlannedMove<S, P> {
         self.accel_usage
     }
 
+    /// Largest tool acceleration over the move (tangential and
+    /// centripetal together, at every cycle) as a fraction of the move's
+    /// Cartesian acceleration bound; at most 1. 0 for a joint move or a
+    /// dwell, which have no Cartesian bound.
+    #[must_use]
+    pub const fn tool_accel_usage(&self) -> P {
+        self.tool_accel_usage
+    }
+
     /// The setpoint of cycle `cycle` (1 ..= `cycles()`), for random access
     /// and tests; identical to what the stream emits at that cycle.
     ///
@@ -182,6 +195,31 @@ impl<S: Real, P: Real<Wide = P>> PlannedMove<S, P> {
     /// cycle in range on the robot it was planned for).
     pub fn setpoint_at(&self, robot: &Robot<S>, cycle: u32) -> Result<Setpoint<S>, Error> {
         self.setpoint(robot, cycle)
+    }
+
+    /// The setpoint of cycle `cycle` (0 ..= `cycles()`, 0 the start) as
+    /// the validation sees it: the same setpoint as [`Self::setpoint`],
+    /// bit for bit (the same time law, path and guarded inverse or forward
+    /// kinematics, whose joint rates [`Robot::inverse_with_rates`] computes
+    /// from the same solution), together with the pose's margins and the
+    /// path fraction `sigma`.
+    pub(crate) fn checked_setpoint(&self, robot: &Robot<S>, cycle: u32) -> Result<Checked<S>, Error> {
+        let end_of_move = cycle >= self.cycles;
+        let (sigma, speed) = if end_of_move { (S::ONE, S::Wide::ZERO) } else { self.timing.sample(cycle) };
+        let (setpoint, margins) = match self.path.at(sigma, speed) {
+            Target::Joints { angles, rates } => {
+                let sol = robot.forward(angles)?;
+                let sp =
+                    Setpoint { position: sol.position, joints: sol.joints, joint_rates: rates, cycle, end_of_move };
+                (sp, sol.margins)
+            }
+            Target::Cartesian { point, velocity } => {
+                let sol = robot.inverse(point)?;
+                let joint_rates = sol.jacobian.joint_rates(velocity)?;
+                (Setpoint { position: point, joints: sol.joints, joint_rates, cycle, end_of_move }, sol.margins)
+            }
+        };
+        Ok(Checked { setpoint, margins, sigma })
     }
 
     /// The setpoint of cycle `cycle`: time law, path, guarded kinematics
@@ -203,6 +241,14 @@ impl<S: Real, P: Real<Wide = P>> PlannedMove<S, P> {
     }
 }
 
+/// A setpoint with what the validation needs besides: the margins of its
+/// pose and the path fraction it lies at.
+pub(crate) struct Checked<S: Arith> {
+    pub(crate) setpoint: Setpoint<S>,
+    pub(crate) margins: Margins<S>,
+    pub(crate) sigma: S,
+}
+
 fn finite3<P: Arith>(v: [P; 3]) -> Result<[P; 3], MotionError> {
     if P::all_finite(v) { Ok(v) } else { Err(MotionError::invalid(MoveFault::NonFinite)) }
 }
@@ -221,6 +267,9 @@ pub(crate) struct Shaped<S: Arith, P> {
     pub(crate) path: Path<S>,
     pub(crate) profile: Profile<P>,
     pub(crate) end: [S::Wide; 3],
+    /// The bound on the tool's acceleration (mm/s^2) for a Cartesian move
+    /// with a time law, `None` for a dwell or a joint move.
+    pub(crate) accel_bound: Option<P>,
 }
 
 /// Builds the path and time law of `mv` from `start` (mm), whose joint
@@ -247,7 +296,8 @@ pub(crate) fn shape<S: Real, P: Real<Wide = P>>(
             let dir = convert3(delta.map(|c| c * inv))?;
             let profile = Profile::plan(law, length, bounds)?;
             let to = convert3(to)?;
-            Ok(Shaped { path: Path::Line { to, dir, length: convert(length)? }, profile, end: to })
+            let path = Path::Line { to, dir, length: convert(length)? };
+            Ok(Shaped { path, profile, end: to, accel_bound: Some(bounds.accel) })
         }
         Move::Pick { to, lift, blend_radius, law, bounds } => {
             let to = finite3(to)?;
@@ -280,11 +330,11 @@ pub(crate) fn shape<S: Real, P: Real<Wide = P>>(
                 length: convert(length)?,
             };
             let profile = Profile::plan(law, length, bounds)?;
-            Ok(Shaped { path: Path::Pick(pick), profile, end: to_s })
+            Ok(Shaped { path: Path::Pick(pick), profile, end: to_s, accel_bound: Some(bounds.accel) })
         }
         Move::Dwell { duration } => {
             let profile = Profile::hold(duration)?;
-            Ok(Shaped { path: Path::Hold { at: start }, profile, end: start })
+            Ok(Shaped { path: Path::Hold { at: start }, profile, end: start, accel_bound: None })
         }
         Move::Joint { to, law, bounds } => {
             let to = finite3(to)?;
@@ -299,7 +349,7 @@ pub(crate) fn shape<S: Real, P: Real<Wide = P>>(
             let profile = Profile::plan(law, length, bounds)?;
             // The Cartesian end is known once the last cycle is solved.
             let path = Path::Joint { to: convert3(to)?, dir, length: convert(length)? };
-            Ok(Shaped { path, profile, end: start })
+            Ok(Shaped { path, profile, end: start, accel_bound: None })
         }
     }
 }
@@ -508,5 +558,6 @@ pub(crate) fn join_lines<S: Real, P: Real<Wide = P>>(
         bends: lines.count - 1,
         length: wide(length)?,
     };
-    Ok(Some((Shaped { path: Path::Chain(chain), profile, end: to }, lines)))
+    let shaped = Shaped { path: Path::Chain(chain), profile, end: to, accel_bound: Some(lines.bounds.accel) };
+    Ok(Some((shaped, lines)))
 }

@@ -197,7 +197,54 @@ impl<S: Real> Pick<S> {
     }
 }
 
+/// The circular arcs of a path, as `(start, end, radius)` in mm of arc
+/// length (start and end) and mm (radius); only the first `count` are
+/// used. At most one per corner.
+pub(crate) struct Arcs<S: Arith> {
+    pub(crate) arcs: [(S::Wide, S::Wide, S::Wide); MAX_JOINED_LINES - 1],
+    pub(crate) count: usize,
+}
+
 impl<S: Real> Path<S> {
+    /// The path's length (mm) when it is Cartesian (0 for a hold), `None`
+    /// for a joint-space path.
+    pub(crate) fn cartesian_length(&self) -> Option<S::Wide> {
+        match self {
+            Path::Line { length, .. } => Some(*length),
+            Path::Pick(p) => Some(p.length),
+            Path::Chain(c) => Some(c.length),
+            Path::Hold { .. } => Some(S::Wide::ZERO),
+            Path::Joint { .. } => None,
+        }
+    }
+
+    /// The path's circular arcs (the pick cycle's two corners, a chain's
+    /// rounded corners; none for a line, a hold or a joint path).
+    pub(crate) fn arcs(&self) -> Arcs<S> {
+        let zero = S::Wide::ZERO;
+        let mut out = Arcs { arcs: [(zero, zero, zero); MAX_JOINED_LINES - 1], count: 0 };
+        match self {
+            Path::Pick(p) => {
+                let [b1, b2, b3, b4] = p.b;
+                let [first, second, ..] = &mut out.arcs;
+                (*first, *second) = ((b1, b2, p.r), (b3, b4, p.r));
+                out.count = 2;
+            }
+            Path::Chain(c) => {
+                for bend in c.bend.iter().take(c.bends) {
+                    if bend.b_in < bend.b_out {
+                        if let Some(slot) = out.arcs.get_mut(out.count) {
+                            *slot = (bend.b_in, bend.b_out, bend.r);
+                            out.count += 1;
+                        }
+                    }
+                }
+            }
+            Path::Line { .. } | Path::Hold { .. } | Path::Joint { .. } => {}
+        }
+        out
+    }
+
     /// Where the path is after the fraction `sigma` of its length, moving
     /// at path speed `speed` (mm/s, or rad/s for a joint path).
     pub(crate) fn at(&self, sigma: S, speed: S::Wide) -> Target<S> {

@@ -139,7 +139,7 @@ impl<S: Real, P: Real<Wide = P>, const N: usize> Stream<S, N, P> {
         start: [S::Wide; 3],
     ) -> Result<Self, MotionError> {
         const { assert!(N > 0, "a stream needs room for at least one move") };
-        let checker = Checker::new(period, &limits)?;
+        let checker = Checker::new(&robot, period, &limits)?;
         let at_start = robot.inverse(start).map_err(|e| MotionError::before_sampling(e.into()))?;
         Ok(Self {
             robot,
