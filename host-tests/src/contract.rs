@@ -15,7 +15,9 @@
 //!    passive-joint cones, serial and parallel margins). One of the two is
 //!    what the stream computed the setpoint with; the other re-derives the
 //!    pose, and a re-derivation that fails only within rounding of a
-//!    limit ([`Rounding::GUARD_SLACK`]) is accepted.
+//!    limit ([`Rounding::GUARD_SLACK`]) is accepted (a serial margin by
+//!    its size when the re-derived pose crossed the base plane, where the
+//!    margin's sign flips by definition).
 //! 2. **Joint speed.** `|w_k| <= V` and `|theta_k - theta_{k-1}| / T <= V`
 //!    (plus the slacks below).
 //! 3. **Joint acceleration.** `|w_k - w_{k-1}| / T <= A` and
@@ -199,6 +201,13 @@ impl fmt::Display for Violation {
     }
 }
 
+/// Whether two positions lie on different sides of the base plane (or
+/// one on it): the serial margin's sign is that of the side.
+fn crossed<W: Arith>(a: [W; 3], b: [W; 3]) -> bool {
+    let (za, zb) = (a[2].to_f64(), b[2].to_f64());
+    (za > 0.0) != (zb > 0.0)
+}
+
 /// `value <= allowed`, false for NaN.
 fn within(value: f64, allowed: f64) -> bool {
     matches!(value.partial_cmp(&allowed), Some(core::cmp::Ordering::Less | core::cmp::Ordering::Equal))
@@ -360,13 +369,17 @@ impl<S: Rounding> Contract<S> {
         if let Err(error) = forward {
             // The joints are the setpoint's own: their ranges hold exactly.
             let unguarded = self.robot.forward_unguarded(sp.joints);
-            if !self.joints_in_range(sp.joints, 0.0) || !unguarded.is_ok_and(|s| self.margins_hold(&s)) {
+            let ok = unguarded.is_ok_and(|s| self.margins_hold(&s, crossed(sp.position, s.position)));
+            if !self.joints_in_range(sp.joints, 0.0) || !ok {
                 return Err(Broken::Guard { solve: "forward", error });
             }
         }
         if let Err(error) = inverse {
             let unguarded = self.robot.inverse_unguarded(sp.position);
-            let ok = unguarded.is_ok_and(|s| self.joints_in_range(s.joints, S::JOINT_NOISE) && self.margins_hold(&s));
+            let ok = unguarded.is_ok_and(|s| {
+                let crossed = forward.is_ok_and(|f| crossed(f.position, sp.position));
+                self.joints_in_range(s.joints, S::JOINT_NOISE) && self.margins_hold(&s, crossed)
+            });
             if !ok {
                 return Err(Broken::Guard { solve: "inverse", error });
             }
@@ -382,11 +395,16 @@ impl<S: Rounding> Contract<S> {
         })
     }
 
-    fn margins_hold(&self, s: &Solution<S>) -> bool {
+    /// The margins of `s` within [`Rounding::GUARD_SLACK`] of the limits;
+    /// `crossed`: the re-derived pose lies on the other side of the base
+    /// plane than the setpoint, where the serial margin's sign flips by
+    /// definition, so its size is compared.
+    fn margins_hold(&self, s: &Solution<S>, crossed: bool) -> bool {
         let l = self.robot.limits();
         let slack = S::GUARD_SLACK;
         let m = &s.margins;
-        m.serial.iter().all(|v| v.to_f64() >= l.min_serial_margin.to_f64() - slack)
+        let serial = |v: S| if crossed { v.to_f64().abs() } else { v.to_f64() };
+        m.serial.iter().all(|&v| serial(v) >= l.min_serial_margin.to_f64() - slack)
             && m.parallel.to_f64() >= l.min_parallel_margin.to_f64() - slack
             && m.passive_tilt_cos.iter().flatten().all(|c| c.to_f64() >= self.cos_cone - slack)
     }
