@@ -109,8 +109,10 @@ pub enum Command {
     /// checked over its whole duration before it is queued (reachability,
     /// joint ranges, passive-joint cones, singularity margins, joint
     /// speeds and accelerations) and slowed down when a joint limit needs
-    /// it. A move that no slowing fixes stops the command with exit status
-    /// 2 and a message naming the move, the time within it and the limit.
+    /// it. The whole program is planned and streamed before any row is
+    /// written: a move that no slowing fixes stops the command with exit
+    /// status 2, nothing on stdout, and a message naming the move, the time
+    /// within it and the limit.
     /// The moves file format is documented in the README and in
     /// examples/demo_moves.toml.
     #[command(after_help = "Example:\n  deltakin plan --moves examples/demo_moves.toml --rate-hz 4000 > setpoints.csv")]
@@ -455,9 +457,14 @@ fn run_plan(args: &PlanArgs) -> Result<ExitCode, Failure> {
     let robot = load_robot(args.robot.as_deref())?;
     let text = std::fs::read_to_string(&args.moves)
         .map_err(|e| Failure(format!("cannot read moves file {}: {e}", args.moves.display())))?;
+    // `plan::run` writes only once the whole program has run: a refused
+    // move leaves stdout empty.
     let mut stdout = BufWriter::new(std::io::stdout().lock());
-    let summary = plan::run(&robot, &text, args.rate_hz, args.scalar, &mut stdout)
-        .map_err(|e| Failure(format!("{}: {e}", args.moves.display())))?;
+    let summary = plan::run(&robot, &text, args.rate_hz, args.scalar, &mut stdout).map_err(|e| match e {
+        // A robot-file problem names the robot file, not the moves file.
+        plan::PlanError::Robot(e) => Failure::from(e),
+        e => Failure(format!("{}: {e}", args.moves.display())),
+    })?;
     stdout.flush().map_err(|e| Failure(format!("cannot write stdout: {e}")))?;
     eprintln!("{summary}");
     Ok(ExitCode::SUCCESS)

@@ -86,6 +86,118 @@ pub struct RobotFile {
     pub gates: Option<toml::Table>,
 }
 
+/// What is wrong with one number of a robot or moves file.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum NumberFault {
+    /// NaN or an infinity.
+    NotFinite,
+    /// Finite, but outside the range of the number type the command
+    /// computes in (named: `f32`, `f64`, or the fixed-point format).
+    OutOfRange(&'static str),
+}
+
+/// One number of a configuration file that cannot be used, with the file
+/// and the key it came from.
+#[derive(Clone, Debug, PartialEq)]
+pub struct BadNumber {
+    /// `"robot file"` or `"moves file"`.
+    pub file: &'static str,
+    /// The key as a user finds it in the file, with its table:
+    /// `[limits] joint_min_deg`, `move 3 (pick) lift_mm`.
+    pub key: String,
+    /// The value as written in the file (its units).
+    pub value: f64,
+    /// What is wrong with it.
+    pub fault: NumberFault,
+}
+
+/// `v` as TOML spells it (`nan`, `inf`, `-inf`), else Rust's shortest
+/// round-trip text.
+fn toml_number(v: f64) -> String {
+    if v.is_nan() {
+        "nan".to_owned()
+    } else if v.is_infinite() {
+        if v > 0.0 { "inf".to_owned() } else { "-inf".to_owned() }
+    } else if v != 0.0 && !(1e-5..1e16).contains(&v.abs()) {
+        format!("{v:e}")
+    } else {
+        format!("{v}")
+    }
+}
+
+impl std::fmt::Display for BadNumber {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        let (file, key, value) = (self.file, &self.key, toml_number(self.value));
+        match self.fault {
+            NumberFault::NotFinite => write!(f, "{file}: {key} is not a finite number ({value})"),
+            NumberFault::OutOfRange(t) => {
+                write!(f, "{file}: {key} = {value} is outside the range of the {t} number type")
+            }
+        }
+    }
+}
+
+impl std::error::Error for BadNumber {}
+
+/// The name of a number type in messages: `f32`, `f64`, or for fixed
+/// point the format (`--scalar fixed` computes angles in Q7.25 and
+/// millimetres in Q18.14).
+fn type_name<T>() -> &'static str {
+    let full = std::any::type_name::<T>();
+    match full.rsplit("::").next().unwrap_or(full) {
+        "Fixed" => "fixed-point Q7.25",
+        "FixedWide" => "fixed-point Q18.14 (mm)",
+        short => short,
+    }
+}
+
+/// Converts one number of a file to `T`: `value` as written in the file,
+/// `converted` the same in the core's units (radians for `_deg` keys).
+/// NaN and infinities are refused as such, before any conversion, so the
+/// message names the key and says what is wrong with it rather than
+/// blaming the number type.
+///
+/// # Errors
+/// [`BadNumber`] naming `file` and `key`.
+pub fn number<T: Arith>(
+    file: &'static str,
+    key: &dyn Fn() -> String,
+    value: f64,
+    converted: f64,
+) -> Result<T, BadNumber> {
+    let bad = |fault| BadNumber { file, key: key(), value, fault };
+    if !value.is_finite() || !converted.is_finite() {
+        return Err(bad(NumberFault::NotFinite));
+    }
+    T::from_f64(converted).ok_or_else(|| bad(NumberFault::OutOfRange(type_name::<T>())))
+}
+
+/// The key of one arm's value of a [`PerArm`] entry: the plain key for a
+/// single value, `key[arm]` for a list of three.
+#[must_use]
+pub fn per_arm_key(key: &str, entry: PerArm, arm: usize) -> String {
+    match entry {
+        PerArm::All(_) => key.to_owned(),
+        PerArm::Each(_) => format!("{key}[{arm}]"),
+    }
+}
+
+/// Converts a [`PerArm`] entry to `T`, each value through `to_core` (the
+/// unit change), naming `key` (and the arm, for a list) on failure.
+///
+/// # Errors
+/// [`BadNumber`] for the first value that cannot be used.
+pub fn per_arm<T: Arith>(
+    file: &'static str,
+    key: &str,
+    entry: PerArm,
+    to_core: fn(f64) -> f64,
+) -> Result<[T; 3], BadNumber> {
+    let v = entry.values();
+    let one = |arm: usize| number(file, &|| per_arm_key(key, entry, arm), v[arm], to_core(v[arm]));
+    Ok([one(0)?, one(1)?, one(2)?])
+}
+
 /// Why a robot file could not be used.
 #[derive(Debug)]
 pub enum ConfigError {
@@ -93,6 +205,8 @@ pub enum ConfigError {
     Read(std::path::PathBuf, std::io::Error),
     /// The text is not a valid robot file (syntax, missing or unknown key).
     Parse(String),
+    /// A number of the file is not finite or does not fit the number type.
+    Number(BadNumber),
     /// The numbers do not describe a valid robot.
     Robot(Error),
 }
@@ -102,7 +216,8 @@ impl std::fmt::Display for ConfigError {
         match self {
             ConfigError::Read(p, e) => write!(f, "cannot read robot file {}: {e}", p.display()),
             ConfigError::Parse(e) => write!(f, "invalid robot file: {e}"),
-            ConfigError::Robot(e) => write!(f, "{e}"),
+            ConfigError::Number(e) => write!(f, "{e}"),
+            ConfigError::Robot(e) => write!(f, "robot file: {e}"),
         }
     }
 }
@@ -171,31 +286,33 @@ impl RobotFile {
     /// API type for millimetres (`S` itself for floats).
     ///
     /// # Errors
-    /// [`ConfigError::Robot`] when a number is not representable in `S` or
+    /// [`ConfigError::Number`] naming the key of a number that is not
+    /// finite or not representable in `S`; [`ConfigError::Robot`] when
     /// the robot is invalid.
     pub fn robot<S: Real>(&self) -> Result<Robot<S>, ConfigError> {
-        let conv = |v: f64| {
-            S::from_f64(v).ok_or(ConfigError::Robot(Error::InvalidGeometry(deltakin::ConfigFault::Unrepresentable)))
+        const FILE: &str = "robot file";
+        let g = &self.geometry;
+        let mm = |key: &'static str, v: f64| {
+            number::<S::Wide>(FILE, &|| format!("[geometry] {key}"), v, v).map_err(ConfigError::Number)
         };
-        let g = self.geometry_f64();
-        let l = self.limits_f64();
-        let conv_mm = |v: f64| {
-            S::Wide::from_f64(v)
-                .ok_or(ConfigError::Robot(Error::InvalidGeometry(deltakin::ConfigFault::Unrepresentable)))
-        };
-        let conv3 = |v: [f64; 3]| -> Result<[S; 3], ConfigError> { Ok([conv(v[0])?, conv(v[1])?, conv(v[2])?]) };
         let geometry = Geometry {
-            base_radius: conv_mm(g.base_radius)?,
-            platform_radius: conv_mm(g.platform_radius)?,
-            upper_arm: conv_mm(g.upper_arm)?,
-            lower_arm: conv_mm(g.lower_arm)?,
+            base_radius: mm("base_radius_mm", g.base_radius_mm)?,
+            platform_radius: mm("platform_radius_mm", g.platform_radius_mm)?,
+            upper_arm: mm("upper_arm_mm", g.upper_arm_mm)?,
+            lower_arm: mm("lower_arm_mm", g.lower_arm_mm)?,
+        };
+        let l = &self.limits;
+        let plain = |key: &'static str, v: f64, to_core: fn(f64) -> f64| {
+            number::<S>(FILE, &|| format!("[limits] {key}"), v, to_core(v)).map_err(ConfigError::Number)
         };
         let limits = Limits {
-            joint_min: conv3(l.joint_min)?,
-            joint_max: conv3(l.joint_max)?,
-            passive_cone: conv(l.passive_cone)?,
-            min_serial_margin: conv(l.min_serial_margin)?,
-            min_parallel_margin: conv(l.min_parallel_margin)?,
+            joint_min: per_arm(FILE, "[limits] joint_min_deg", l.joint_min_deg, f64::to_radians)
+                .map_err(ConfigError::Number)?,
+            joint_max: per_arm(FILE, "[limits] joint_max_deg", l.joint_max_deg, f64::to_radians)
+                .map_err(ConfigError::Number)?,
+            passive_cone: plain("passive_cone_deg", l.passive_cone_deg, f64::to_radians)?,
+            min_serial_margin: plain("min_serial_margin", l.min_serial_margin, |v| v)?,
+            min_parallel_margin: plain("min_parallel_margin", l.min_parallel_margin, |v| v)?,
         };
         Robot::new(geometry, limits).map_err(ConfigError::Robot)
     }

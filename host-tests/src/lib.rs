@@ -4,6 +4,7 @@
 pub mod bounds;
 pub mod cli;
 pub mod config;
+pub mod contract;
 pub mod crosscheck;
 pub mod gates;
 pub mod plan;

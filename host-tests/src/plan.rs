@@ -62,7 +62,14 @@
 //! a first row at `t = 0` (the start pose, at rest) and then one row per
 //! cycle. Numbers carry 9 significant digits for `f32` and 17 for `f64`,
 //! enough to round-trip. A [`Summary`] goes to the caller (the CLI prints
-//! it on stderr).
+//! it on stderr). Nothing is written until every move has been accepted
+//! and streamed, so a refused program leaves the output empty.
+//!
+//! # Errors
+//! A number of the robot or moves file that is NaN, infinite or beyond
+//! the number type is refused with its key (`moves file: move 6 (pick)
+//! lift_mm is not a finite number (nan)`); a refused move is named by its
+//! index (from 0), its place in the file and what it is.
 
 use std::fmt;
 use std::io::Write;
@@ -72,7 +79,7 @@ use deltakin::{Arith, Fixed, Real};
 use serde::Deserialize;
 
 use crate::cli::ScalarKind;
-use crate::config::{ConfigError, PerArm, RobotFile};
+use crate::config::{BadNumber, ConfigError, PerArm, RobotFile, number, per_arm};
 
 /// Moves the stream's queue holds (the one running included).
 pub const QUEUE_CAPACITY: usize = 8;
@@ -219,15 +226,18 @@ pub enum PlanError {
     Robot(ConfigError),
     /// The rate is not a positive finite number representable in the scalar.
     Rate(f64),
-    /// A number of the moves file is not representable in the scalar.
-    Unrepresentable(&'static str),
+    /// A number of the moves file is not finite or not representable in
+    /// the number type (the key is named).
+    Number(BadNumber),
     /// The start pose or the limits were refused.
     Start(MotionError),
     /// Move `index` (0-based) was refused; `time_s` is the first offending
-    /// time within the move.
+    /// time within the move. Nothing was written.
     Move {
         /// Index in the file, from 0.
         index: usize,
+        /// The move in words (`line to [0, 0, -1300] mm`).
+        what: String,
         /// The motion error (cycle, arm, limit).
         error: MotionError,
         /// `error.cycle` in seconds from the move's start.
@@ -245,10 +255,16 @@ impl fmt::Display for PlanError {
             PlanError::Parse(e) => write!(f, "invalid moves file: {e}"),
             PlanError::Robot(e) => write!(f, "{e}"),
             PlanError::Rate(r) => write!(f, "invalid rate {r} Hz"),
-            PlanError::Unrepresentable(what) => write!(f, "{what} is not representable in this number type"),
+            PlanError::Number(e) => write!(f, "{e}"),
             PlanError::Start(e) => write!(f, "cannot start: {e}"),
-            PlanError::Move { index, error, time_s } => {
-                write!(f, "move {index} refused at t = {time_s:.6} s into the move: {}", error.fault)
+            PlanError::Move { index, what, error, time_s } => {
+                let nth = index + 1;
+                write!(
+                    f,
+                    "move {index} (the {nth}{} [[move]]: {what}) refused at t = {time_s:.6} s into the move: {}",
+                    ordinal_suffix(nth),
+                    error.fault
+                )
             }
             PlanError::Stream(e) => write!(f, "stream stopped: {e}"),
             PlanError::Io(e) => write!(f, "cannot write output: {e}"),
@@ -257,6 +273,16 @@ impl fmt::Display for PlanError {
 }
 
 impl std::error::Error for PlanError {}
+
+/// `st`, `nd`, `rd` or `th`.
+fn ordinal_suffix(n: usize) -> &'static str {
+    match (n % 10, n % 100) {
+        (1, r) if r != 11 => "st",
+        (2, r) if r != 12 => "nd",
+        (3, r) if r != 13 => "rd",
+        _ => "th",
+    }
+}
 
 impl From<std::io::Error> for PlanError {
     fn from(e: std::io::Error) -> Self {
@@ -343,150 +369,203 @@ impl MovesFile {
         toml::from_str(text).map_err(|e| PlanError::Parse(e.to_string()))
     }
 
-    /// Joint rate limits in rad/s and rad/s^2 (f64).
-    #[must_use]
-    pub fn joint_rate_limits_f64(&self) -> ([f64; 3], [f64; 3]) {
-        (
-            self.joint_limits.speed_deg_s.values().map(f64::to_radians),
-            self.joint_limits.accel_deg_s2.values().map(f64::to_radians),
-        )
-    }
-
-    /// The moves in f64, mm and rad, with the defaults filled in.
+    /// Joint rate limits in rad/s and rad/s^2, in the planning type `P`.
     ///
     /// # Errors
-    /// [`PlanError::Parse`] naming a move that lacks a law or bound with no
-    /// default.
-    pub fn moves_f64(&self) -> Result<Vec<Move<f64>>, PlanError> {
+    /// [`PlanError::Number`] naming a limit that is not finite or does not
+    /// fit `P`.
+    pub fn joint_rate_limits<P: Arith>(&self) -> Result<JointRateLimits<P>, PlanError> {
+        let l = &self.joint_limits;
+        Ok(JointRateLimits {
+            speed: per_arm(MOVES, "[joint_limits] speed_deg_s", l.speed_deg_s, f64::to_radians)
+                .map_err(PlanError::Number)?,
+            accel: per_arm(MOVES, "[joint_limits] accel_deg_s2", l.accel_deg_s2, f64::to_radians)
+                .map_err(PlanError::Number)?,
+        })
+    }
+
+    /// The moves in the planning type `P` (mm and rad), with the defaults
+    /// filled in. Every number of the file is converted with its key, the
+    /// defaults too (used or not), so a NaN, an infinity or a value beyond
+    /// `P` is named where it was written.
+    ///
+    /// # Errors
+    /// [`PlanError::Number`] naming the key; [`PlanError::Parse`] naming a
+    /// move that lacks a law or bound with no default.
+    pub fn moves_in<P: Real>(&self) -> Result<Vec<Move<P>>, PlanError> {
         let missing = |i: usize, what: &str| PlanError::Parse(format!("move {i}: no {what} and no default"));
+        let mm = |v: f64| v;
+        let deg = f64::to_radians;
         let c = &self.cartesian;
-        let cart = |i: usize, law: Option<LawName>, v: Option<f64>, a: Option<f64>, j: Option<f64>| {
+        let c_speed = opt::<P>("[cartesian] speed_mm_s", c.speed_mm_s, mm)?;
+        let c_accel = opt::<P>("[cartesian] accel_mm_s2", c.accel_mm_s2, mm)?;
+        let c_jerk = opt::<P>("[cartesian] jerk_mm_s3", c.jerk_mm_s3, mm)?;
+        let jd = &self.joint;
+        let j_speed = opt::<P>("[joint] speed_deg_s", jd.speed_deg_s, deg)?;
+        let j_accel = opt::<P>("[joint] accel_deg_s2", jd.accel_deg_s2, deg)?;
+        let j_jerk = opt::<P>("[joint] jerk_deg_s3", jd.jerk_deg_s3, deg)?;
+        // A move's own value, else the default; `name` is the key in the move.
+        let bound =
+            |i: usize, kind: &str, name: &'static str, own: Option<f64>, default: Option<P>, to: fn(f64) -> f64| {
+                match own {
+                    Some(v) => num::<P>(&|| format!("move {i} ({kind}) {name}"), v, to),
+                    None => default.ok_or_else(|| missing(i, name)),
+                }
+            };
+        let cart = |i: usize, kind: &str, law: Option<LawName>, v: Option<f64>, a: Option<f64>, j: Option<f64>| {
             Ok::<_, PlanError>((
                 Law::from(law.or(c.law).ok_or_else(|| missing(i, "law"))?),
                 Bounds {
-                    speed: v.or(c.speed_mm_s).ok_or_else(|| missing(i, "speed_mm_s"))?,
-                    accel: a.or(c.accel_mm_s2).ok_or_else(|| missing(i, "accel_mm_s2"))?,
-                    jerk: j.or(c.jerk_mm_s3).ok_or_else(|| missing(i, "jerk_mm_s3"))?,
+                    speed: bound(i, kind, "speed_mm_s", v, c_speed, mm)?,
+                    accel: bound(i, kind, "accel_mm_s2", a, c_accel, mm)?,
+                    jerk: bound(i, kind, "jerk_mm_s3", j, c_jerk, mm)?,
                 },
             ))
         };
-        let jd = &self.joint;
+        let key = |i: usize, kind: &'static str, name: &'static str| move || format!("move {i} ({kind}) {name}");
         self.moves
             .iter()
             .enumerate()
             .map(|(i, m)| match *m {
                 MoveEntry::Line { to_mm, law, speed_mm_s, accel_mm_s2, jerk_mm_s3 } => {
-                    let (law, bounds) = cart(i, law, speed_mm_s, accel_mm_s2, jerk_mm_s3)?;
-                    Ok(Move::Line { to: to_mm, law, bounds })
+                    let to = xyz::<P>(&key(i, "line", "to_mm")(), to_mm, mm)?;
+                    let (law, bounds) = cart(i, "line", law, speed_mm_s, accel_mm_s2, jerk_mm_s3)?;
+                    Ok(Move::Line { to, law, bounds })
                 }
                 MoveEntry::Pick { to_mm, lift_mm, blend_radius_mm, law, speed_mm_s, accel_mm_s2, jerk_mm_s3 } => {
-                    let (law, bounds) = cart(i, law, speed_mm_s, accel_mm_s2, jerk_mm_s3)?;
-                    Ok(Move::Pick { to: to_mm, lift: lift_mm, blend_radius: blend_radius_mm, law, bounds })
+                    let to = xyz::<P>(&key(i, "pick", "to_mm")(), to_mm, mm)?;
+                    let lift = num::<P>(&key(i, "pick", "lift_mm"), lift_mm, mm)?;
+                    let blend_radius = num::<P>(&key(i, "pick", "blend_radius_mm"), blend_radius_mm, mm)?;
+                    let (law, bounds) = cart(i, "pick", law, speed_mm_s, accel_mm_s2, jerk_mm_s3)?;
+                    Ok(Move::Pick { to, lift, blend_radius, law, bounds })
                 }
-                MoveEntry::Dwell { duration_s } => Ok(Move::Dwell { duration: duration_s }),
+                MoveEntry::Dwell { duration_s } => {
+                    Ok(Move::Dwell { duration: num::<P>(&key(i, "dwell", "duration_s"), duration_s, |v| v)? })
+                }
                 MoveEntry::Joint { to_deg, law, speed_deg_s, accel_deg_s2, jerk_deg_s3 } => {
+                    let to = xyz::<P>(&key(i, "joint", "to_deg")(), to_deg, deg)?;
                     let law = Law::from(law.or(jd.law).ok_or_else(|| missing(i, "law"))?);
-                    let v = speed_deg_s.or(jd.speed_deg_s).ok_or_else(|| missing(i, "speed_deg_s"))?;
-                    let a = accel_deg_s2.or(jd.accel_deg_s2).ok_or_else(|| missing(i, "accel_deg_s2"))?;
-                    let j = jerk_deg_s3.or(jd.jerk_deg_s3).ok_or_else(|| missing(i, "jerk_deg_s3"))?;
-                    let bounds = Bounds { speed: v.to_radians(), accel: a.to_radians(), jerk: j.to_radians() };
-                    Ok(Move::Joint { to: to_deg.map(f64::to_radians), law, bounds })
+                    let bounds = Bounds {
+                        speed: bound(i, "joint", "speed_deg_s", speed_deg_s, j_speed, deg)?,
+                        accel: bound(i, "joint", "accel_deg_s2", accel_deg_s2, j_accel, deg)?,
+                        jerk: bound(i, "joint", "jerk_deg_s3", jerk_deg_s3, j_jerk, deg)?,
+                    };
+                    Ok(Move::Joint { to, law, bounds })
                 }
             })
             .collect()
     }
-}
 
-fn conv<S: Arith>(v: f64, what: &'static str) -> Result<S, PlanError> {
-    S::from_f64(v).ok_or(PlanError::Unrepresentable(what))
-}
-
-fn conv3<S: Arith>(v: [f64; 3], what: &'static str) -> Result<[S; 3], PlanError> {
-    Ok([conv(v[0], what)?, conv(v[1], what)?, conv(v[2], what)?])
-}
-
-/// A move converted from f64 to `S`.
-fn move_in<S: Real>(m: &Move<f64>) -> Result<Move<S>, PlanError> {
-    let b = |b: &Bounds<f64>| -> Result<Bounds<S>, PlanError> {
-        Ok(Bounds {
-            speed: conv(b.speed, "a speed")?,
-            accel: conv(b.accel, "an acceleration")?,
-            jerk: conv(b.jerk, "a jerk")?,
-        })
-    };
-    Ok(match m {
-        Move::Line { to, law, bounds } => Move::Line { to: conv3(*to, "a target")?, law: *law, bounds: b(bounds)? },
-        Move::Pick { to, lift, blend_radius, law, bounds } => Move::Pick {
-            to: conv3(*to, "a target")?,
-            lift: conv(*lift, "a lift")?,
-            blend_radius: conv(*blend_radius, "a blend radius")?,
-            law: *law,
-            bounds: b(bounds)?,
-        },
-        Move::Dwell { duration } => Move::Dwell { duration: conv(*duration, "a dwell time")? },
-        Move::Joint { to, law, bounds } => {
-            Move::Joint { to: conv3(*to, "a joint target")?, law: *law, bounds: b(bounds)? }
+    /// Move `index` in words, for messages: `line to [0, 0, -1300] mm`.
+    #[must_use]
+    pub fn describe(&self, index: usize) -> String {
+        let v = |p: [f64; 3]| format!("[{}, {}, {}]", p[0], p[1], p[2]);
+        match self.moves.get(index) {
+            Some(MoveEntry::Line { to_mm, .. }) => format!("line to {} mm", v(*to_mm)),
+            Some(MoveEntry::Pick { to_mm, .. }) => format!("pick to {} mm", v(*to_mm)),
+            Some(MoveEntry::Dwell { duration_s }) => format!("dwell for {duration_s} s"),
+            Some(MoveEntry::Joint { to_deg, .. }) => format!("joint move to {} deg", v(*to_deg)),
+            None => "no such move".to_owned(),
         }
-    })
+    }
+}
+
+/// The file name in messages about its numbers.
+const MOVES: &str = "moves file";
+
+/// One number of the moves file (`to_core` changes the unit) in `T`.
+fn num<T: Arith>(key: &dyn Fn() -> String, v: f64, to_core: fn(f64) -> f64) -> Result<T, PlanError> {
+    number(MOVES, key, v, to_core(v)).map_err(PlanError::Number)
+}
+
+/// An optional number (a default) in `T`.
+fn opt<T: Arith>(key: &'static str, v: Option<f64>, to_core: fn(f64) -> f64) -> Result<Option<T>, PlanError> {
+    v.map(|v| num(&|| key.to_owned(), v, to_core)).transpose()
+}
+
+/// Three numbers (`key[0]`, `key[1]`, `key[2]`) in `T`.
+fn xyz<T: Arith>(key: &str, v: [f64; 3], to_core: fn(f64) -> f64) -> Result<[T; 3], PlanError> {
+    let one = |i: usize| num(&|| format!("{key}[{i}]"), v[i], to_core);
+    Ok([one(0)?, one(1)?, one(2)?])
 }
 
 /// Writes `v` with `digits` significant digits.
-fn num(out: &mut dyn Write, v: f64, digits: usize) -> std::io::Result<()> {
+fn num_text(out: &mut dyn Write, v: f64, digits: usize) -> std::io::Result<()> {
     write!(out, "{:.*e}", digits.saturating_sub(1), v)
 }
 
-/// One CSV row: time, position (mm), joints (deg), joint rates (deg/s).
-fn row(out: &mut dyn Write, t: f64, p: [f64; 3], q: [f64; 3], w: [f64; 3], digits: usize) -> std::io::Result<()> {
-    num(out, t, digits)?;
-    for v in p.into_iter().chain(q.map(f64::to_degrees)).chain(w.map(f64::to_degrees)) {
-        out.write_all(b",")?;
-        num(out, v, digits)?;
+/// One cycle of a plan, in f64 (exactly the streamed values: every `f32`
+/// and fixed-point value is an `f64`).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Row {
+    /// Time from the start (s).
+    pub t_s: f64,
+    /// Platform position (mm).
+    pub position_mm: [f64; 3],
+    /// Joint angles (rad).
+    pub joints_rad: [f64; 3],
+    /// Joint rates (rad/s).
+    pub rates_rad_s: [f64; 3],
+}
+
+impl Row {
+    /// The row as CSV: time, position (mm), joints (deg), joint rates
+    /// (deg/s), each with `digits` significant digits.
+    fn write(&self, out: &mut dyn Write, digits: usize) -> std::io::Result<()> {
+        num_text(out, self.t_s, digits)?;
+        let deg = |v: [f64; 3]| v.map(f64::to_degrees);
+        for v in self.position_mm.into_iter().chain(deg(self.joints_rad)).chain(deg(self.rates_rad_s)) {
+            out.write_all(b",")?;
+            num_text(out, v, digits)?;
+        }
+        out.write_all(b"\n")
     }
-    out.write_all(b"\n")
 }
 
 /// The CSV header.
 pub const CSV_HEADER: &str =
     "t_s,x_mm,y_mm,z_mm,theta0_deg,theta1_deg,theta2_deg,omega0_deg_s,omega1_deg_s,omega2_deg_s";
 
-/// Runs `moves` on `robot_file` at `rate_hz`, streaming in number type
-/// `S` with the moves planned in the float type `P` (`P = S` for floats,
-/// `f32` for fixed point, as on a target), writing CSV with the digits of
-/// `scalar` to `out`.
+/// Plans and streams the whole of `moves` on `robot_file` at `rate_hz`,
+/// streaming in number type `S` with the moves planned in the float type
+/// `P` (`P = S` for floats, `f32` for fixed point, as on a target). The
+/// rows (the rest pose at `t = 0`, then one per cycle) come back only
+/// when every move was accepted and streamed: a refused move leaves
+/// nothing half written.
 ///
 /// # Errors
-/// See [`PlanError`]: a move refused (with its index and the first
-/// offending time within it), the robot, the rate, or the output.
-pub fn run_with<S: Real, P: Real<Wide = P>>(
+/// See [`PlanError`]: a number of the files, the robot, the rate, the
+/// start, or a move refused (with its index and the first offending time
+/// within it).
+pub fn plan_with<S: Real, P: Real<Wide = P>>(
     robot_file: &RobotFile,
     moves: &MovesFile,
     rate_hz: f64,
     scalar: ScalarKind,
-    out: &mut dyn Write,
-) -> Result<Summary, PlanError> {
+) -> Result<(Vec<Row>, Summary), PlanError> {
     if !(rate_hz.is_finite() && rate_hz > 0.0) {
         return Err(PlanError::Rate(rate_hz));
     }
-    let digits = digits(scalar);
     let robot = robot_file.robot::<S>().map_err(PlanError::Robot)?;
-    let period: P = conv(1.0 / rate_hz, "the cycle period").map_err(|_| PlanError::Rate(rate_hz))?;
+    let period = P::from_f64(1.0 / rate_hz).ok_or(PlanError::Rate(rate_hz))?;
     let period_f64 = period.to_f64();
-    let (speed, accel) = moves.joint_rate_limits_f64();
-    let limits = JointRateLimits {
-        speed: conv3(speed, "a joint speed limit")?,
-        accel: conv3(accel, "a joint acceleration limit")?,
-    };
-    let start = conv3::<S::Wide>(moves.start_mm, "the start position")?;
-    let list = moves.moves_f64()?.iter().map(move_in::<P>).collect::<Result<Vec<_>, _>>()?;
+    let limits = moves.joint_rate_limits::<P>()?;
+    let start = xyz::<S::Wide>("start_mm", moves.start_mm, |v| v)?;
+    let tolerance = opt::<P>("[cartesian] corner_tolerance_mm", moves.cartesian.corner_tolerance_mm, |v| v)?;
+    let list = moves.moves_in::<P>()?;
     let mut stream: Stream<S, QUEUE_CAPACITY, P> =
         Stream::new(robot, period, limits, start).map_err(PlanError::Start)?;
-    if let Some(tol) = moves.cartesian.corner_tolerance_mm {
-        stream.set_corner_tolerance(Some(conv(tol, "the corner tolerance")?)).map_err(PlanError::Start)?;
+    if tolerance.is_some() {
+        stream.set_corner_tolerance(tolerance).map_err(PlanError::Start)?;
     }
     let at_start = robot.inverse(start).map_err(|e| PlanError::Start(MotionError::before_sampling(e.into())))?;
 
-    writeln!(out, "{CSV_HEADER}")?;
-    row(out, 0.0, start.map(Arith::to_f64), at_start.joints.map(S::to_f64), [0.0; 3], digits)?;
+    let mut rows = vec![Row {
+        t_s: 0.0,
+        position_mm: start.map(Arith::to_f64),
+        joints_rad: at_start.joints.map(S::to_f64),
+        rates_rad_s: [0.0; 3],
+    }];
     let mut summary = Summary {
         scalar,
         rate_hz,
@@ -494,9 +573,9 @@ pub fn run_with<S: Real, P: Real<Wide = P>>(
         setpoints: 0,
         duration_s: 0.0,
         peak_speed_deg_s: [0.0; 3],
-        speed_limit_deg_s: speed.map(f64::to_degrees),
+        speed_limit_deg_s: moves.joint_limits.speed_deg_s.values(),
         peak_accel_deg_s2: [0.0; 3],
-        accel_limit_deg_s2: accel.map(f64::to_degrees),
+        accel_limit_deg_s2: moves.joint_limits.accel_deg_s2.values(),
         time_scaled: Vec::new(),
         joined: Vec::new(),
     };
@@ -506,6 +585,7 @@ pub fn run_with<S: Real, P: Real<Wide = P>>(
         while let Some(m) = list.get(next).filter(|_| !stream.is_full()) {
             let accepted = stream.push(m).map_err(|error| PlanError::Move {
                 index: next,
+                what: moves.describe(next),
                 error,
                 time_s: f64::from(error.cycle) * period_f64,
             })?;
@@ -523,7 +603,12 @@ pub fn run_with<S: Real, P: Real<Wide = P>>(
         let t = summary.setpoints as f64 * period_f64;
         let sp = step.setpoint;
         let rates = sp.joint_rates.map(Arith::to_f64);
-        row(out, t, sp.position.map(Arith::to_f64), sp.joints.map(S::to_f64), rates, digits)?;
+        rows.push(Row {
+            t_s: t,
+            position_mm: sp.position.map(Arith::to_f64),
+            joints_rad: sp.joints.map(S::to_f64),
+            rates_rad_s: rates,
+        });
         for arm in 0..3 {
             let w = rates[arm].to_degrees();
             let a = (rates[arm] - prev_rates[arm]).to_degrees() / period_f64;
@@ -532,6 +617,27 @@ pub fn run_with<S: Real, P: Real<Wide = P>>(
         }
         prev_rates = rates;
         summary.duration_s = t;
+    }
+    Ok((rows, summary))
+}
+
+/// Runs `moves` (see [`plan_with`]) and writes the CSV with the digits of
+/// `scalar` to `out`. Nothing is written unless the whole plan ran.
+///
+/// # Errors
+/// See [`plan_with`]; [`PlanError::Io`] when writing fails.
+pub fn run_with<S: Real, P: Real<Wide = P>>(
+    robot_file: &RobotFile,
+    moves: &MovesFile,
+    rate_hz: f64,
+    scalar: ScalarKind,
+    out: &mut dyn Write,
+) -> Result<Summary, PlanError> {
+    let (rows, summary) = plan_with::<S, P>(robot_file, moves, rate_hz, scalar)?;
+    let digits = digits(scalar);
+    writeln!(out, "{CSV_HEADER}")?;
+    for r in &rows {
+        r.write(out, digits)?;
     }
     Ok(summary)
 }
@@ -631,7 +737,7 @@ mod tests {
         let text = "start_mm = [0.0, 0.0, -700.0]\n[joint_limits]\nspeed_deg_s = 720.0\naccel_deg_s2 = 1.0e4\n\
                     [[move]]\nkind = \"line\"\nto_mm = [0.0, 0.0, -650.0]\n";
         let file = MovesFile::parse(text).unwrap();
-        assert!(matches!(file.moves_f64(), Err(PlanError::Parse(_))));
+        assert!(matches!(file.moves_in::<f64>(), Err(PlanError::Parse(_))));
     }
 
     #[test]
@@ -643,7 +749,7 @@ mod tests {
         let mut out = Vec::new();
         let err = run(&RobotFile::demo(), &text, RATE_HZ, ScalarKind::F32, &mut out).unwrap_err();
         match err {
-            PlanError::Move { index, error, time_s } => {
+            PlanError::Move { index, error, time_s, .. } => {
                 assert_eq!(index, count - 1);
                 assert!(error.cycle > 0 && time_s > 0.0);
             }

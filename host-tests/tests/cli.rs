@@ -467,7 +467,7 @@ fn plan_failures_exit_with_one_message() {
     let demo_path = demo_moves_path();
     let cases: [(Vec<&str>, &str); 4] = [
         (vec!["plan", "--moves", bad_toml.to_str().unwrap()], "hop_mm"),
-        (vec!["plan", "--moves", unreachable.to_str().unwrap()], "move 10 refused"),
+        (vec!["plan", "--moves", unreachable.to_str().unwrap()], "move 10 ("),
         (vec!["plan", "--moves", missing.to_str().unwrap()], "no_such_moves.toml"),
         (vec!["plan", "--moves", demo_path.to_str().unwrap(), "--rate-hz=0"], "rate"),
     ];
@@ -477,5 +477,123 @@ fn plan_failures_exit_with_one_message() {
         assert_eq!(out.status.code(), Some(EXIT_USAGE), "{args:?}: {err}");
         assert!(err.contains(mention), "{args:?}: {err}");
         assert!(err.starts_with("deltakin: ") && err.matches("deltakin: ").count() == 1, "{err}");
+    }
+}
+
+/// The demo moves plus an unreachable last line: move 10 (0-based), after
+/// about 2,200 cycles of good setpoints.
+fn demo_moves_then_unreachable() -> String {
+    let demo = std::fs::read_to_string(demo_moves_path()).unwrap();
+    format!("{demo}\n[[move]]\nkind = \"line\"\nto_mm = [0.0, 0.0, -1300.0]\nspeed_mm_s = 500.0\n")
+}
+
+#[test]
+fn a_refused_move_leaves_stdout_empty_and_names_the_move() {
+    let moves = temp_file("refused_last_move.toml", &demo_moves_then_unreachable());
+    for scalar in ["f32", "f64", "fixed"] {
+        let out = run(&["plan", "--moves", moves.to_str().unwrap(), "--scalar", scalar], "");
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert_eq!(out.status.code(), Some(EXIT_USAGE), "{scalar}: {err}");
+        // Not one row of the moves before it: the program is refused whole.
+        assert!(out.stdout.is_empty(), "{scalar}: {} bytes on stdout", out.stdout.len());
+        assert!(err.contains("move 10 (the 11th [[move]]: line to [0, 0, -1300] mm) refused"), "{scalar}: {err}");
+        assert!(err.starts_with("deltakin: ") && err.matches("deltakin: ").count() == 1, "{err}");
+    }
+}
+
+/// Runs `ik` and `plan` in every number type on a demo robot whose text
+/// has `from` replaced by `to`; each must exit 2 with exactly `message`.
+fn assert_robot_number_refused(name: &str, from: &str, to: &str, message: &str) {
+    assert!(DEMO_ROBOT_TOML.contains(from), "{from}");
+    let robot = temp_file(name, &DEMO_ROBOT_TOML.replace(from, to));
+    let moves = demo_moves_path();
+    for scalar in ["f32", "f64", "fixed"] {
+        let ik =
+            run(&["ik", "--robot", robot.to_str().unwrap(), "--scalar", scalar], &format!("{POSITION_IN}\n0,0,-700\n"));
+        let plan = run(
+            &["plan", "--robot", robot.to_str().unwrap(), "--moves", moves.to_str().unwrap(), "--scalar", scalar],
+            "",
+        );
+        for out in [ik, plan] {
+            let err = String::from_utf8_lossy(&out.stderr);
+            assert_eq!(out.status.code(), Some(EXIT_USAGE), "{scalar}: {err}");
+            assert!(out.stdout.is_empty(), "{scalar}");
+            assert_eq!(err.trim_end(), format!("deltakin: {message}"), "{scalar}");
+        }
+    }
+}
+
+#[test]
+fn a_nan_robot_limit_is_named_by_its_key_not_blamed_on_the_number_type() {
+    assert_robot_number_refused(
+        "nan_joint_min.toml",
+        "joint_min_deg = -35.0",
+        "joint_min_deg = nan",
+        "robot file: [limits] joint_min_deg is not a finite number (nan)",
+    );
+    // One arm of a per-arm list, and a geometry key.
+    assert_robot_number_refused(
+        "nan_joint_max_arm.toml",
+        "joint_max_deg = 85.0",
+        "joint_max_deg = [85.0, nan, 85.0]",
+        "robot file: [limits] joint_max_deg[1] is not a finite number (nan)",
+    );
+    assert_robot_number_refused(
+        "nan_lower_arm.toml",
+        "lower_arm_mm = 720.0",
+        "lower_arm_mm = nan",
+        "robot file: [geometry] lower_arm_mm is not a finite number (nan)",
+    );
+}
+
+#[test]
+fn an_infinite_robot_limit_is_named_by_its_key_not_blamed_on_the_number_type() {
+    assert_robot_number_refused(
+        "inf_passive_cone.toml",
+        "passive_cone_deg = 40.0",
+        "passive_cone_deg = inf",
+        "robot file: [limits] passive_cone_deg is not a finite number (inf)",
+    );
+    assert_robot_number_refused(
+        "inf_serial_margin.toml",
+        "min_serial_margin = 0.1",
+        "min_serial_margin = -inf",
+        "robot file: [limits] min_serial_margin is not a finite number (-inf)",
+    );
+}
+
+#[test]
+fn a_non_finite_moves_number_is_named_by_its_key_not_blamed_on_the_number_type() {
+    let demo = std::fs::read_to_string(demo_moves_path()).unwrap();
+    let cases = [
+        ("lift_mm = 60.0", "lift_mm = nan", "moves file: move 6 (pick) lift_mm is not a finite number (nan)"),
+        (
+            "accel_deg_s2 = 15000.0",
+            "accel_deg_s2 = [15000.0, inf, 15000.0]",
+            "moves file: [joint_limits] accel_deg_s2[1] is not a finite number (inf)",
+        ),
+        (
+            "start_mm = [0.0, 0.0, -700.0]",
+            "start_mm = [0.0, 0.0, nan]",
+            "moves file: start_mm[2] is not a finite number (nan)",
+        ),
+        // A default no move overrides is still a number of the file.
+        ("jerk_deg_s3 = 30000.0", "jerk_deg_s3 = nan", "moves file: [joint] jerk_deg_s3 is not a finite number (nan)"),
+        (
+            "duration_s = 0.05",
+            "duration_s = -inf",
+            "moves file: move 1 (dwell) duration_s is not a finite number (-inf)",
+        ),
+    ];
+    for (i, (from, to, message)) in cases.into_iter().enumerate() {
+        assert!(demo.contains(from), "{from}");
+        let moves = temp_file(&format!("non_finite_moves_{i}.toml"), &demo.replacen(from, to, 1));
+        for scalar in ["f32", "f64", "fixed"] {
+            let out = run(&["plan", "--moves", moves.to_str().unwrap(), "--scalar", scalar], "");
+            let err = String::from_utf8_lossy(&out.stderr);
+            assert_eq!(out.status.code(), Some(EXIT_USAGE), "{scalar}: {err}");
+            assert!(out.stdout.is_empty(), "{scalar}");
+            assert_eq!(err.trim_end(), format!("deltakin: {}: {message}", moves.display()), "{scalar}");
+        }
     }
 }
