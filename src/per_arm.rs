@@ -78,7 +78,7 @@
 //! The corrected arm must itself be one deltakin serves: upper arm at
 //! least [`crate::MIN_DIMENSION_MM`], lower arm longer than the upper arm,
 //! and inside the number type's validated envelope (fixed point: see
-//! [`check_arm_in_number_range`]).
+//! `check_arm_in_number_range` in this file).
 
 use crate::error::{ArmParameter, ConfigFault, Error};
 use crate::robot::Geometry;
