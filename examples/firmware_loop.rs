@@ -16,7 +16,7 @@
 //! Run: `cargo run --release --example firmware_loop`
 
 use deltakin::motion::{Bounds, JointRateLimits, Law, Move, Stream};
-use deltakin::{Geometry, Limits, Robot};
+use deltakin::{ArmCorrection, Corrections, Geometry, Limits, Robot};
 
 /// Servo rate (Hz) and period (s).
 const RATE_HZ: u32 = 4000;
@@ -34,10 +34,15 @@ fn deg(v: f32) -> f32 {
     v.to_radians()
 }
 
+/// The per-arm corrections a calibration wrote for this machine (the
+/// robot file's `[arm_corrections]` table, here in mm and rad). The demo
+/// robot is nominal: all zero.
+const CORRECTIONS: Corrections<f32> = [ArmCorrection::ZERO; 3];
+
 fn robot() -> Robot<f32> {
     let geometry = Geometry { base_radius: 160.0, platform_radius: 40.0, upper_arm: 280.0, lower_arm: 720.0 };
     let limits = Limits::uniform(deg(-35.0), deg(85.0), deg(40.0), 0.1, 0.1);
-    match Robot::new(geometry, limits) {
+    match Robot::with_corrections(geometry, CORRECTIONS, limits) {
         Ok(r) => r,
         Err(e) => panic!("demo robot: {e}"),
     }

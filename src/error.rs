@@ -61,6 +61,46 @@ pub enum ConfigFault {
     NeutralPose,
     /// The number type cannot represent this geometry (fixed point only).
     Unrepresentable,
+    /// A per-arm correction exceeds the range deltakin admits for it (see
+    /// [`crate::ArmCorrection`]): a calibration that far from the drawing,
+    /// or a unit mix-up (degrees given as radians, metres as millimetres).
+    CorrectionTooLarge,
+}
+
+/// Which per-arm parameter of a robot a [`Error::InvalidArm`] concerns (see
+/// [`crate::ArmCorrection`], whose fields these name).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+#[non_exhaustive]
+pub enum ArmParameter {
+    /// The joint zero offset.
+    JointOffset,
+    /// The upper arm length.
+    UpperArm,
+    /// The lower arm length.
+    LowerArm,
+    /// The radial difference, actuator axis radius minus platform joint
+    /// radius.
+    RadialDifference,
+    /// The actuator azimuth.
+    Azimuth,
+    /// The actuator axis height.
+    AxisHeight,
+}
+
+impl ArmParameter {
+    /// The parameter's name in robot files (without the unit suffix), as
+    /// used in the per-arm table of the host harness.
+    #[must_use]
+    pub const fn name(self) -> &'static str {
+        match self {
+            ArmParameter::JointOffset => "joint_offset",
+            ArmParameter::UpperArm => "upper_arm",
+            ArmParameter::LowerArm => "lower_arm",
+            ArmParameter::RadialDifference => "radial_difference",
+            ArmParameter::Azimuth => "azimuth",
+            ArmParameter::AxisHeight => "axis_height",
+        }
+    }
 }
 
 /// Everything that can go wrong in deltakin. Small and `Copy`, so a
@@ -113,6 +153,16 @@ pub enum Error {
     InvalidGeometry(ConfigFault),
     /// The limits are inconsistent or do not fit the geometry.
     InvalidLimits(ConfigFault),
+    /// One arm's corrected parameters do not describe a machine deltakin
+    /// serves (see [`crate::Robot::with_corrections`]).
+    InvalidArm {
+        /// The arm.
+        arm: u8,
+        /// The parameter at fault.
+        parameter: ArmParameter,
+        /// What is wrong with it.
+        fault: ConfigFault,
+    },
     /// A result does not fit the number type (fixed point only: a velocity,
     /// rate or torque beyond the range of [`crate::scalar::FixedWide`]).
     OutOfRange,
@@ -133,6 +183,7 @@ impl Error {
             Error::NearParallelSingularity => "near_parallel",
             Error::InvalidGeometry(_) => "invalid_geometry",
             Error::InvalidLimits(_) => "invalid_limits",
+            Error::InvalidArm { .. } => "invalid_arm",
             Error::OutOfRange => "out_of_range",
         }
     }
@@ -151,6 +202,20 @@ impl fmt::Display for ConfigFault {
             ConfigFault::Margin => "a minimum singularity margin must lie in [0, 1)",
             ConfigFault::NeutralPose => "the neutral pose (joints mid-range) cannot be assembled",
             ConfigFault::Unrepresentable => "the number type cannot represent this geometry",
+            ConfigFault::CorrectionTooLarge => "the correction exceeds its admitted range",
+        })
+    }
+}
+
+impl fmt::Display for ArmParameter {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(match self {
+            ArmParameter::JointOffset => "joint zero offset",
+            ArmParameter::UpperArm => "upper arm length",
+            ArmParameter::LowerArm => "lower arm length",
+            ArmParameter::RadialDifference => "radial difference (actuator minus platform joint radius)",
+            ArmParameter::Azimuth => "actuator azimuth",
+            ArmParameter::AxisHeight => "actuator axis height",
         })
     }
 }
@@ -175,6 +240,7 @@ impl fmt::Display for Error {
             Error::NearParallelSingularity => f.write_str("too close to a parallel singularity"),
             Error::InvalidGeometry(why) => write!(f, "invalid geometry: {why}"),
             Error::InvalidLimits(why) => write!(f, "invalid limits: {why}"),
+            Error::InvalidArm { arm, parameter, fault } => write!(f, "invalid arm {arm} {parameter}: {fault}"),
             Error::OutOfRange => f.write_str("a result does not fit the number type"),
         }
     }
@@ -204,6 +270,7 @@ mod tests {
             Error::NearParallelSingularity,
             Error::InvalidGeometry(ConfigFault::NotPositive),
             Error::InvalidLimits(ConfigFault::JointRange),
+            Error::InvalidArm { arm: 1, parameter: ArmParameter::UpperArm, fault: ConfigFault::TooSmall },
             Error::OutOfRange,
         ];
         for (i, a) in all.iter().enumerate() {
@@ -212,6 +279,32 @@ mod tests {
             for b in &all[i + 1..] {
                 assert_ne!(w, b.status_word());
             }
+        }
+    }
+
+    #[test]
+    fn an_arm_fault_names_the_arm_and_the_parameter() {
+        let e = Error::InvalidArm { arm: 2, parameter: ArmParameter::Azimuth, fault: ConfigFault::CorrectionTooLarge };
+        let mut buf = [0u8; 128];
+        let mut w = Writer { buf: &mut buf, len: 0 };
+        fmt::write(&mut w, format_args!("{e}")).unwrap();
+        let text = core::str::from_utf8(&w.buf[..w.len]).unwrap();
+        assert_eq!(text, "invalid arm 2 actuator azimuth: the correction exceeds its admitted range");
+        assert_eq!(ArmParameter::LowerArm.name(), "lower_arm");
+    }
+
+    /// A fixed buffer to format into (the core has no allocator).
+    struct Writer<'a> {
+        buf: &'a mut [u8],
+        len: usize,
+    }
+
+    impl fmt::Write for Writer<'_> {
+        fn write_str(&mut self, s: &str) -> fmt::Result {
+            let end = self.len + s.len();
+            self.buf.get_mut(self.len..end).ok_or(fmt::Error)?.copy_from_slice(s.as_bytes());
+            self.len = end;
+            Ok(())
         }
     }
 }

@@ -2,9 +2,12 @@
 //! intersection of three spheres.
 //!
 //! Shift each elbow inwards by the platform radius: the platform centre
-//! then lies on three spheres of radius 1 (lower-arm units) around the
-//! shifted elbows `C_i = R_z(phi_i) (d + a cos t_i, 0, -a sin t_i)`, with
-//! `d = base_radius - platform_radius`.
+//! then lies on three spheres of radius `l_i` (nominal lower-arm units,
+//! 1 on the nominal machine) around the shifted elbows
+//! `C_i = R_z(phi_i) (d_i + a_i cos t_i, 0, h_i - a_i sin t_i)`, with each
+//! arm's own azimuth `phi_i`, radial difference `d_i` (base minus platform
+//! radius), axis height `h_i`, upper arm `a_i` and true joint angle `t_i`
+//! (reading plus joint offset), see [`crate::per_arm`].
 //!
 //! The usual elimination subtracts sphere equations pairwise and divides by
 //! differences of the centres' heights or coordinates, which vanish at
@@ -16,10 +19,18 @@
 //!
 //! ```text
 //!   u = C_1 - C_0,  v = C_2 - C_0,  n = u x v,  m = n / |n|
-//!   Q = C_0 + (|u|^2 (v x m) + |v|^2 (m x u)) / (2 |n|)     circumcentre
-//!   h^2 = 1 - |Q - C_0|^2                                  height above it
+//!   U = |u|^2 + l_0^2 - l_1^2,  V = |v|^2 + l_0^2 - l_2^2
+//!   Q = C_0 + (U (v x m) + V (m x u)) / (2 |n|)            foot point
+//!   h^2 = l_0^2 - |Q - C_0|^2                              height above it
 //!   p = Q -+ h m                                           lower of the two
 //! ```
+//!
+//! With equal radii `Q` is the circumcentre of the three centres. With
+//! unequal ones it is the point of their plane whose squared distances to
+//! the centres differ by the differences of the squared radii (the radical
+//! centre of the three circles): `(Q - C_0) . u = U / 2` and
+//! `(Q - C_0) . v = V / 2` follow from `(v x m) . u = (m x u) . v = |n|`,
+//! which is what subtracting the sphere equations demands.
 //!
 //! (Dividing by `|n|` instead of the textbook `|n|^2` keeps every
 //! intermediate value of order one, which matters to a bounded number
@@ -36,6 +47,7 @@
 //! about 60 multiplications and additions.
 
 use crate::error::Error;
+use crate::per_arm::ArmConstants;
 use crate::robot::Robot;
 use crate::scalar::Real;
 
@@ -60,17 +72,17 @@ fn sub<S: Real>(u: [S; 3], v: [S; 3]) -> [S; 3] {
     [ux - vx, uy - vy, uz - vz]
 }
 
-/// Sphere centre of an arm at azimuth `phi` (`c`, `s` its cosine and
-/// sine): its elbow shifted inwards by the platform radius, in lower-arm
-/// units and the base frame.
+/// Sphere centre of arm `k`: its elbow shifted inwards by the platform
+/// radius, in lower-arm units and the base frame, from the true joint
+/// angle's sine and cosine.
 #[inline]
-fn centre<S: Real>(robot: &Robot<S>, (c, s): (S, S), sin: S, cos: S) -> [S; 3] {
-    let radial = robot.d + robot.a * cos;
-    [c * radial, s * radial, -(robot.a * sin)]
+fn centre<S: Real>(k: &ArmConstants<S>, sin: S, cos: S) -> [S; 3] {
+    let radial = k.d + k.a * cos;
+    [k.cos_phi * radial, k.sin_phi * radial, k.h - k.a * sin]
 }
 
-/// The platform centre (lower-arm units, base frame) for joints whose
-/// sines and cosines are given, lower branch, and the three rods (elbow to
+/// The platform centre (lower-arm units, base frame) for true joint angles
+/// whose sines and cosines are given, lower branch, and the three rods (elbow to
 /// platform joint, base frame): the platform centre minus each sphere
 /// centre.
 ///
@@ -82,12 +94,11 @@ fn centre<S: Real>(robot: &Robot<S>, (c, s): (S, S), sin: S, cos: S) -> [S; 3] {
 #[inline]
 pub(crate) fn solve<S: Real>(robot: &Robot<S>, trig: [(S, S); 3]) -> Result<([S; 3], [[S; 3]; 3]), Error> {
     let [(s0, c0), (s1, c1), (s2, c2)] = trig;
-    let [_, k1, k2] = &robot.arms;
-    // Arm 0 lies on the x axis (azimuth 0, see `Robot::new`).
-    let radial0 = robot.d + robot.a * c0;
-    let p0 = [radial0, S::ZERO, -(robot.a * s0)];
-    let e1 = centre(robot, (k1.cos_phi, k1.sin_phi), s1, c1);
-    let e2 = centre(robot, (k2.cos_phi, k2.sin_phi), s2, c2);
+    let [k0, k1, k2] = &robot.arms;
+    let p0 = centre(k0, s0, c0);
+    let e1 = centre(k1, s1, c1);
+    let e2 = centre(k2, s2, c2);
+    let l0_sq = k0.l * k0.l;
     let u = sub(e1, p0);
     let v = sub(e2, p0);
     let n = cross(u, v);
@@ -101,13 +112,14 @@ pub(crate) fn solve<S: Real>(robot: &Robot<S>, trig: [(S, S); 3]) -> Result<([S;
     let inv_2n = S::ONE.checked_div(S::TWO * n_len).ok_or(Error::NearParallelSingularity)?;
     let inv_n = inv_2n + inv_2n;
     let m = [n[0] * inv_n, n[1] * inv_n, n[2] * inv_n];
-    let uu = dot(u, u);
-    let vv = dot(v, v);
+    // The radii enter as differences of squares (zero on the nominal machine).
+    let uu = dot(u, u) + (l0_sq - k1.l * k1.l);
+    let vv = dot(v, v) + (l0_sq - k2.l * k2.l);
     let vm = cross(v, m);
     let mu = cross(m, u);
     let q =
         [(uu * vm[0] + vv * mu[0]) * inv_2n, (uu * vm[1] + vv * mu[1]) * inv_2n, (uu * vm[2] + vv * mu[2]) * inv_2n];
-    let h2 = S::ONE - dot(q, q);
+    let h2 = l0_sq - dot(q, q);
     if !(h2 >= S::ZERO) {
         return Err(Error::NoAssembly);
     }

@@ -1,17 +1,21 @@
 //! Inverse kinematics: platform position to joint angles, one closed form
 //! per arm.
 //!
-//! In the vertical plane of arm `i` (x radial, y tangential, z up), with
-//! all lengths in lower-arm units (the lower arm is 1, the upper arm `a`),
-//! the platform centre at `(x', y', z)` and `X = x' - (base_radius -
-//! platform_radius)`, the loop-closure equation of the conventions,
-//! `|E_i - P_i| = 1`, becomes
+//! In the vertical plane of arm `i` (x radial, y tangential, z up, at the
+//! arm's own azimuth), with all lengths in nominal lower-arm units (the
+//! nominal lower arm is 1; this arm's upper arm is `a`, its lower arm `l`,
+//! see [`crate::per_arm`]), the platform centre at `(x', y', z')`,
+//! `X = x' - d` (`d` the arm's radial difference) and `Z = z' - h` (`h`
+//! its axis height), the loop-closure equation `|E_i - P_i| = l` becomes
 //!
 //! ```text
-//!   (a cos t - X)^2 + y'^2 + (a sin t + z)^2 = 1
-//!   => A cos t + B sin t = K,   A = -X,  B = z,
-//!      K = (1 - a^2 - X^2 - y'^2 - z^2) / (2a).
+//!   (a cos t - X)^2 + y'^2 + (a sin t + Z)^2 = l^2
+//!   => A cos t + B sin t = K,   A = -X,  B = Z,
+//!      K = (l^2 - a^2 - X^2 - y'^2 - Z^2) / (2a).
 //! ```
+//!
+//! Here `t` is the arm's true angle; the joint reading returned is `t`
+//! minus the arm's joint offset.
 //!
 //! This is the classical linear-combination form (solved in most robotics
 //! texts, e.g. J. J. Craig, "Introduction to Robotics", 3rd ed., 2005,
@@ -30,30 +34,31 @@
 //! `rho^2 < 1/16`, where its reciprocal could overflow a bounded type).
 //!
 //! The same two numerators give the serial margin for free. The margin is
-//! `s . dE/dt / a` with `s` the unit rod, i.e. `sin t X + cos t z` (the
-//! upper-arm terms cancel), and substituting the solution,
-//! `rho^2 (sin t X + cos t z) = -A sin_num + B cos_num = sgn(B) w rho^2`:
-//! the margin is `w` itself, up to its sign convention. This is both
-//! cheaper and more accurate than recomputing it from the rounded sine and
-//! cosine.
+//! `s . dE/dt / (a l)` with `s` the rod, i.e. `(sin t X + cos t Z) / l`
+//! (the upper-arm terms cancel), and substituting the solution,
+//! `rho^2 (sin t X + cos t Z) = -A sin_num + B cos_num = sgn(B) w rho^2`:
+//! the margin is `w / l`, up to its sign convention. This is both cheaper
+//! and more accurate than recomputing it from the rounded sine and cosine.
 //!
-//! The three arms sit at the conventions' azimuths 0, 120 and 240 degrees
-//! (set by `Robot::new`), so arm 0's plane is the xz plane and arms 1 and
-//! 2 are mirror images: their plane coordinates share four products.
+//! Each arm's plane is turned by its own azimuth (nominally 0, 120 and 240
+//! degrees; on the nominal machine every product below is the one the
+//! symmetric form had, so its results are unchanged bit for bit in f32
+//! and f64).
 //!
-//! Cost per arm: one square root, one `atan2`, one division and about 20
+//! Cost per arm: one square root, one `atan2`, one division and about 25
 //! multiplications and additions. No iteration.
 
 use crate::error::Error;
-use crate::robot::{ArmConstants, Robot};
+use crate::per_arm::ArmConstants;
+use crate::robot::Robot;
 use crate::scalar::Real;
 
 /// One arm's closed loop, in lower-arm units and the arm's plane frame.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub(crate) struct ArmState<S> {
-    /// Joint angle (rad).
+    /// Joint reading (rad): the true angle minus the arm's joint offset.
     pub(crate) theta: S,
-    /// sin and cos of the joint angle.
+    /// sin and cos of the true joint angle.
     pub(crate) sin: S,
     pub(crate) cos: S,
     /// Lower-arm vector from elbow to platform joint (unit length up to
@@ -62,14 +67,14 @@ pub(crate) struct ArmState<S> {
     /// separately.
     pub(crate) rod: [S; 2],
     /// `rod . (sin t, 0, cos t)`: the rod's component along the elbow's
-    /// direction of travel (up to the factor `-a`), whose magnitude is the
-    /// serial margin.
+    /// direction of travel (up to the factor `-a`), whose magnitude divided
+    /// by the rod's length is the serial margin.
     pub(crate) along: S,
 }
 
 impl<S: Real> ArmState<S> {
-    /// An arm's state from its joint angle, the angle's sine and cosine,
-    /// and the rod's plane components `[x, z]`.
+    /// An arm's state from its joint reading, the true angle's sine and
+    /// cosine, and the rod's plane components `[x, z]`.
     #[inline]
     pub(crate) fn new(theta: S, (sin, cos): (S, S), rod: [S; 2]) -> Self {
         let [rx, rz] = rod;
@@ -84,39 +89,37 @@ fn rotate<S: Real>(k: &ArmConstants<S>, v: [S; 3]) -> [S; 3] {
     [k.cos_phi * x - k.sin_phi * y, k.sin_phi * x + k.cos_phi * y, z]
 }
 
-/// The platform centre `p` (lower-arm units, base frame) seen from each
-/// arm: `(X, y', z)` with `X` measured from the point where the platform
-/// joint sits when the elbow is on the actuator axis. Arm 0 lies on the x
-/// axis; arms 1 and 2 at +-120 degrees share their products.
+/// The platform centre `p` (lower-arm units, base frame) seen from arm
+/// `k`: `(X, y', Z)` in the arm's plane frame, with `X` measured from the
+/// point where the platform joint sits when the elbow is on the actuator
+/// axis and `Z` from the axis height.
 #[inline]
-fn arm_plane_points<S: Real>(robot: &Robot<S>, p: [S; 3]) -> [[S; 3]; 3] {
-    let [_, k1, _] = &robot.arms;
-    let (c, s) = (k1.cos_phi, k1.sin_phi);
+fn arm_plane_point<S: Real>(k: &ArmConstants<S>, p: [S; 3]) -> [S; 3] {
+    let (c, s) = (k.cos_phi, k.sin_phi);
     let [x, y, z] = p;
-    let (cx, cy, sx, sy) = (c * x, c * y, s * x, s * y);
-    [[x - robot.d, y, z], [cx + sy - robot.d, cy - sx, z], [cx - sy - robot.d, cy + sx, z]]
+    [c * x + s * y - k.d, c * y - s * x, z - k.h]
 }
 
 /// Rod vector (elbow to platform joint) in the arm's plane frame, from the
-/// arm-plane point and the joint angle's sine and cosine.
+/// arm-plane point and the true joint angle's sine and cosine.
 #[inline]
-fn rod_vector<S: Real>(robot: &Robot<S>, q: [S; 3], sin: S, cos: S) -> [S; 3] {
+fn rod_vector<S: Real>(k: &ArmConstants<S>, q: [S; 3], sin: S, cos: S) -> [S; 3] {
     let [x, y, z] = q;
-    [x - robot.a * cos, y, z + robot.a * sin]
+    [x - k.a * cos, y, z + k.a * sin]
 }
 
 /// Solves one arm, elbow-out branch. `q` is the platform centre seen from
-/// the arm (see [`arm_plane_points`]), `arm` its number for the error.
+/// the arm (see [`arm_plane_point`]), `arm` its number for the error.
 ///
 /// # Errors
 /// [`Error::Unreachable`] naming the arm when the closure has no real
 /// solution, or when the platform joint sits on the actuator axis itself
 /// (`rho = 0`), where the angle is undefined.
 #[inline(always)]
-fn solve_arm<S: Real>(robot: &Robot<S>, arm: u8, q: [S; 3]) -> Result<ArmState<S>, Error> {
+fn solve_arm<S: Real>(arm_k: &ArmConstants<S>, arm: u8, q: [S; 3]) -> Result<ArmState<S>, Error> {
     let unreachable = Error::Unreachable { arm };
     let [x, y, z] = q;
-    let k = (robot.one_minus_a2 - x * x - y * y - z * z) * robot.inv_two_a;
+    let k = (arm_k.l2_minus_a2 - x * x - y * y - z * z) * arm_k.inv_two_a;
     let (ca, cb) = (-x, z);
     let rho2 = ca * ca + cb * cb;
     let disc = rho2 - k * k;
@@ -139,12 +142,13 @@ fn solve_arm<S: Real>(robot: &Robot<S>, arm: u8, q: [S; 3]) -> Result<ArmState<S
     } else {
         (sin_num.checked_div(rho2).ok_or(unreachable)?, cos_num.checked_div(rho2).ok_or(unreachable)?)
     };
-    let [rx, _, rz] = rod_vector(robot, q, sin, cos);
+    let [rx, _, rz] = rod_vector(arm_k, q, sin, cos);
     // The numerators are finite and form a vector of length rho^2, which
-    // is above zero (its reciprocal is finite) and below (1 + a)^2 < 4:
-    // `disc >= 0` means `|K| <= rho`, which bounds `rho` by `1 + a` (the
+    // is above zero (its reciprocal is finite) and below (l + a)^2 < 5:
+    // `disc >= 0` means `|K| <= rho`, which bounds `rho` by `l + a` (the
     // closure's triangle inequality). So the bounded arc tangent applies.
-    Ok(ArmState { theta: sin_num.atan2_bounded(cos_num), sin, cos, rod: [rx, rz], along: sgn_b_w })
+    let theta = sin_num.atan2_bounded(cos_num) - arm_k.joint_offset;
+    Ok(ArmState { theta, sin, cos, rod: [rx, rz], along: sgn_b_w })
 }
 
 /// Solves all three arms for the platform centre `p` (lower-arm units):
@@ -155,19 +159,19 @@ fn solve_arm<S: Real>(robot: &Robot<S>, arm: u8, q: [S; 3]) -> Result<ArmState<S
 /// The first arm's [`Error::Unreachable`], arms taken in order 0, 1, 2.
 #[inline]
 pub(crate) fn solve_arms<S: Real>(robot: &Robot<S>, p: [S; 3]) -> Result<([ArmState<S>; 3], [S; 3]), Error> {
-    let [q0, q1, q2] = arm_plane_points(robot, p);
-    let arms = [solve_arm(robot, 0, q0)?, solve_arm(robot, 1, q1)?, solve_arm(robot, 2, q2)?];
+    let [k0, k1, k2] = &robot.arms;
+    let (q0, q1, q2) = (arm_plane_point(k0, p), arm_plane_point(k1, p), arm_plane_point(k2, p));
+    let arms = [solve_arm(k0, 0, q0)?, solve_arm(k1, 1, q1)?, solve_arm(k2, 2, q2)?];
     Ok((arms, [q0[1], q1[1], q2[1]]))
 }
 
 /// The rods of solved arms in the base frame, given each rod's y
-/// component in its arm's plane: arm 0's plane is the xz plane; arms 1
-/// and 2 turn by their azimuths.
+/// component in its arm's plane: each arm's plane turns by its azimuth.
 #[inline]
 pub(crate) fn base_rods<S: Real>(robot: &Robot<S>, arms: &[ArmState<S>; 3], plane_y: [S; 3]) -> [[S; 3]; 3] {
-    let [_, k1, k2] = &robot.arms;
+    let [k0, k1, k2] = &robot.arms;
     let [s0, s1, s2] = arms;
     let [y0, y1, y2] = plane_y;
     let ([x0, z0], [x1, z1], [x2, z2]) = (s0.rod, s1.rod, s2.rod);
-    [[x0, y0, z0], rotate(k1, [x1, y1, z1]), rotate(k2, [x2, y2, z2])]
+    [rotate(k0, [x0, y0, z0]), rotate(k1, [x1, y1, z1]), rotate(k2, [x2, y2, z2])]
 }

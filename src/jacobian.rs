@@ -30,8 +30,10 @@
 //! * parallel margin: `|det J_p| / l^3`, the determinant of the three unit
 //!   lower-arm vectors, which is 1 when they are mutually orthogonal.
 //!
-//! Internally the lower-arm vectors are unit vectors (lengths in lower-arm
-//! units); the maps convert to millimetres.
+//! Internally the lower-arm vectors are in nominal lower-arm units (each of
+//! length `l_i / l`, its arm's lower arm over the nominal one: 1 on the
+//! nominal machine, see [`crate::per_arm`]); the relations above hold for
+//! rods of any length, and the maps convert to millimetres.
 
 use crate::error::{Error, Input, check_finite};
 use crate::forward::{cross, dot};
@@ -45,7 +47,8 @@ use crate::scalar::{Arith, Real};
 /// in the internal type.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Jacobian<S: Arith> {
-    /// Unit lower-arm vectors (elbow to platform), base frame.
+    /// Lower-arm vectors (elbow to platform), base frame, nominal
+    /// lower-arm units.
     rods: [[S; 3]; 3],
     /// `b_i` in lower-arm units per radian.
     rates: [S; 3],
@@ -67,8 +70,9 @@ impl<S: Real> Jacobian<S> {
         Self { rods, rates, scale }
     }
 
-    /// Parallel margin, `|det|` of the three unit lower-arm vectors.
-    pub(crate) fn parallel_margin(&self) -> S {
+    /// `|det|` of the three lower-arm vectors: the parallel margin once
+    /// divided by the product of their lengths.
+    pub(crate) fn rods_abs_det(&self) -> S {
         let [r0, r1, r2] = self.rods;
         dot(r0, cross(r1, r2)).abs()
     }

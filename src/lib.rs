@@ -17,13 +17,15 @@ mod guard;
 pub mod inverse;
 pub mod jacobian;
 pub mod motion;
+pub mod per_arm;
 mod robot;
 pub mod scalar;
 mod solution;
 mod solve;
 
-pub use error::{Bound, ConfigFault, Error, Input, JointEnd};
+pub use error::{ArmParameter, Bound, ConfigFault, Error, Input, JointEnd};
 pub use jacobian::Jacobian;
+pub use per_arm::{ArmCorrection, Corrections};
 pub use robot::{Geometry, Limits, MAX_DIMENSION_MM, MIN_DIMENSION_MM, Robot};
 pub use scalar::{Arith, Fixed, FixedWide, Real};
 pub use solution::{Margins, Solution};

@@ -9,6 +9,7 @@
 //! type use a narrow, fixed format.
 
 use crate::error::{ConfigFault, Error};
+use crate::per_arm::{self, ArmConstants, ArmCorrection, Corrections};
 use crate::scalar::{Arith, Real};
 
 /// Largest dimension deltakin accepts, in millimetres (100 m). Squares of
@@ -72,24 +73,6 @@ impl<S: Copy> Limits<S> {
     }
 }
 
-/// Constants of one arm, in lower-arm units.
-#[derive(Clone, Copy, Debug, PartialEq)]
-pub(crate) struct ArmConstants<S> {
-    /// cos and sin of the arm's azimuth.
-    pub(crate) cos_phi: S,
-    pub(crate) sin_phi: S,
-    /// Neutral axis of the elbow joint, a unit vector in the upper arm's
-    /// own frame (x along the upper arm, y along the actuator axis, z the
-    /// third axis): its x and z components. Its y component is zero, as
-    /// the neutral pose has the platform on the z axis, in every arm's
-    /// vertical plane.
-    pub(crate) elbow_axis: [S; 2],
-    /// Neutral axis of the platform joint, a unit vector in the arm's
-    /// vertical plane frame (x radial, y tangential, z up): its x and z
-    /// components (y is zero, as for the elbow).
-    pub(crate) platform_axis: [S; 2],
-}
-
 /// A validated rotary delta robot, ready for the solvers.
 ///
 /// Plain `Copy` data without pointers: build it once at start-up and keep
@@ -108,22 +91,24 @@ pub(crate) struct ArmConstants<S> {
 /// at the platform it is fixed to the platform, which only translates. The
 /// guard measures the angle between the rod's current direction and each
 /// axis and rejects a pose where either exceeds `passive_cone`.
+///
+/// # Per-arm parameters
+/// [`Robot::with_corrections`] builds a robot whose arms each carry their
+/// own joint offset, lengths, radial difference, azimuth and axis height
+/// (see [`crate::ArmCorrection`]); [`Robot::new`] is the nominal machine,
+/// every correction zero. The solvers always use the per-arm form; the
+/// per-arm lengths are read back with [`Robot::upper_arms`] and
+/// [`Robot::lower_arms`].
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Robot<S: Arith> {
     geometry: Geometry<S>,
     limits: Limits<S>,
-    /// Lower arm (mm) and its inverse: the internal length unit.
+    /// Nominal lower arm (mm) and its inverse: the internal length unit.
     pub(crate) scale: S::Wide,
     pub(crate) inv_scale: S::Recip,
-    /// Upper arm in lower-arm units, `a < 1`.
-    pub(crate) a: S,
-    /// `(base_radius - platform_radius)` in lower-arm units.
-    pub(crate) d: S,
-    /// `1 - a^2` and `1 / (2a)`, for the closure equation.
-    pub(crate) one_minus_a2: S,
-    pub(crate) inv_two_a: S,
     /// cos of the passive-joint cone half-angle.
     pub(crate) cos_cone: S,
+    /// Each arm's own constants (lengths in nominal lower-arm units).
     pub(crate) arms: [ArmConstants<S>; 3],
 }
 
@@ -205,7 +190,9 @@ impl<S: Real> Limits<S> {
 }
 
 impl<S: Real> Robot<S> {
-    /// Validates geometry and limits and precomputes the per-arm constants.
+    /// Validates geometry and limits and precomputes the per-arm constants
+    /// of the nominal machine: [`Robot::with_corrections`] with every
+    /// correction zero.
     ///
     /// # Errors
     /// [`Error::InvalidGeometry`] or [`Error::InvalidLimits`] with the
@@ -215,6 +202,27 @@ impl<S: Real> Robot<S> {
     /// this geometry (fixed point outside its validated envelope, see
     /// [`crate::scalar::Fixed`]).
     pub fn new(geometry: Geometry<S>, limits: Limits<S>) -> Result<Self, Error> {
+        Self::with_corrections(geometry, [ArmCorrection::ZERO; 3], limits)
+    }
+
+    /// Validates a per-arm robot: the nominal `geometry`, each arm's
+    /// `corrections` to it (arms 0, 1, 2; see [`crate::ArmCorrection`]
+    /// for the model and the admitted ranges) and the `limits`, and
+    /// precomputes each arm's constants. The joint limits are on the joint
+    /// readings (the angles the solvers take and give), not on the true
+    /// angles. With every correction zero the robot is exactly the one
+    /// [`Robot::new`] builds.
+    ///
+    /// # Errors
+    /// As [`Robot::new`], checked first on the nominal geometry; then
+    /// [`Error::InvalidArm`] naming the first arm and parameter at fault
+    /// (checked in the order of [`ArmCorrection::validate`], then the
+    /// number type's envelope for each arm).
+    pub fn with_corrections(
+        geometry: Geometry<S>,
+        corrections: Corrections<S>,
+        limits: Limits<S>,
+    ) -> Result<Self, Error> {
         geometry.validate()?;
         limits.validate()?;
         let geo_fault = Error::InvalidGeometry;
@@ -226,47 +234,24 @@ impl<S: Real> Robot<S> {
         if !(a.is_finite() && d.is_finite() && S::admits_geometry(scale, a, d)) {
             return Err(unrepresentable);
         }
-        let inv_two_a = S::ONE.checked_div(S::TWO * a).ok_or(geo_fault(ConfigFault::Unrepresentable))?;
+        for (arm, c) in (0u8..).zip(corrections.iter()) {
+            c.validate(arm, &geometry)?;
+        }
         let half_sqrt3 = constant::<S>(0.866_025_403_784_438_6).map_err(geo_fault)?;
         let azimuths = [(S::ONE, S::ZERO), (-S::HALF, half_sqrt3), (-S::HALF, -half_sqrt3)];
-        let mut arms =
-            [ArmConstants { cos_phi: S::ONE, sin_phi: S::ZERO, elbow_axis: [S::ZERO; 2], platform_axis: [S::ZERO; 2] };
-                3];
-        for ((arm, &(cos_phi, sin_phi)), (&lo, &hi)) in
-            arms.iter_mut().zip(azimuths.iter()).zip(limits.joint_min.iter().zip(limits.joint_max.iter()))
-        {
-            let (sm, cm) = ((lo + hi) * S::HALF).sin_cos();
-            // Platform on the axis: radial gap from elbow to platform joint.
-            let gap = d + a * cm;
-            let drop2 = S::ONE - gap * gap;
-            if !(drop2 > S::ZERO) {
-                return Err(Error::InvalidLimits(ConfigFault::NeutralPose));
-            }
-            // Rod direction, elbow towards platform, in the arm's plane
-            // (its y component is zero: the platform is on the z axis).
-            let down = -drop2.sqrt();
-            let w = [-gap, S::ZERO, down];
-            arm.cos_phi = cos_phi;
-            arm.sin_phi = sin_phi;
-            arm.platform_axis = [-gap, down];
-            let [ex, _, ez] = to_upper_arm_frame(w, sm, cm);
-            arm.elbow_axis = [ex, ez];
-        }
-        Ok(Self {
-            geometry,
-            limits,
-            scale,
-            inv_scale,
-            a,
-            d,
-            one_minus_a2: S::ONE - a * a,
-            inv_two_a,
-            cos_cone: limits.passive_cone.sin_cos().1,
-            arms,
-        })
+        let build = |arm: u8, c: &ArmCorrection<S>, azimuth: (S, S), lo: S, hi: S| {
+            let k = per_arm::arm_constants(arm, &geometry, c, inv_scale, azimuth, (lo + hi) * S::HALF)?;
+            per_arm::check_arm_in_number_range(arm, scale, geometry.lower_arm + c.lower_arm, d, &k)?;
+            Ok::<_, Error>(k)
+        };
+        let [c0, c1, c2] = &corrections;
+        let [z0, z1, z2] = azimuths;
+        let ([lo0, lo1, lo2], [hi0, hi1, hi2]) = (limits.joint_min, limits.joint_max);
+        let arms = [build(0, c0, z0, lo0, hi0)?, build(1, c1, z1, lo1, hi1)?, build(2, c2, z2, lo2, hi2)?];
+        Ok(Self { geometry, limits, scale, inv_scale, cos_cone: limits.passive_cone.sin_cos().1, arms })
     }
 
-    /// The dimensions this robot was built from (mm).
+    /// The nominal dimensions this robot was built from (mm).
     #[must_use]
     pub const fn geometry(&self) -> &Geometry<S> {
         &self.geometry
@@ -276,6 +261,29 @@ impl<S: Real> Robot<S> {
     #[must_use]
     pub const fn limits(&self) -> &Limits<S> {
         &self.limits
+    }
+
+    /// Each arm's upper arm length (mm), arms 0, 1, 2: nominal plus
+    /// correction, as the solvers hold it (in lower-arm units, converted
+    /// back: within a rounding or two of the sum; for fixed point within a
+    /// few LSB of [`crate::FixedWide`]).
+    #[must_use]
+    pub fn upper_arms(&self) -> [S::Wide; 3] {
+        self.arms.map(|k| k.a.mul_wide(self.scale))
+    }
+
+    /// Each arm's lower arm length (mm), arms 0, 1, 2, as for
+    /// [`Robot::upper_arms`].
+    #[must_use]
+    pub fn lower_arms(&self) -> [S::Wide; 3] {
+        self.arms.map(|k| k.l.mul_wide(self.scale))
+    }
+
+    /// Each arm's joint zero offset (rad), exactly as given: the true
+    /// joint angle is the reading plus the offset.
+    #[must_use]
+    pub fn joint_offsets(&self) -> [S; 3] {
+        self.arms.map(|k| k.joint_offset)
     }
 }
 
@@ -308,6 +316,7 @@ mod tests {
         assert_eq!(*robot.geometry(), geometry());
         assert_eq!(*robot.limits(), limits());
         for arm in &robot.arms {
+            assert_eq!((arm.l, arm.inv_l, arm.h, arm.joint_offset), (1.0, 1.0, 0.0, 0.0));
             let n2: f64 = arm.elbow_axis.iter().map(|v| v * v).sum();
             let p2: f64 = arm.platform_axis.iter().map(|v| v * v).sum();
             assert!((n2 - 1.0).abs() < 1e-12 && (p2 - 1.0).abs() < 1e-12);

@@ -4,7 +4,8 @@
 
 use crate::inverse::ArmState;
 use crate::jacobian::Jacobian;
-use crate::robot::{ArmConstants, Robot};
+use crate::per_arm::ArmConstants;
+use crate::robot::Robot;
 use crate::scalar::{Arith, Real};
 
 /// How far a pose is from trouble. See [`crate::jacobian`] for the margin
@@ -56,14 +57,18 @@ impl<S: Real> Solution<S> {
         let above = z > S::Wide::ZERO;
         let [k0, k1, k2] = &robot.arms;
         let [s0, s1, s2] = &arms;
-        let parts = [part(robot, k0, s0, above), part(robot, k1, s1, above), part(robot, k2, s2, above)];
+        let parts = [part(k0, s0, above), part(k1, s1, above), part(k2, s2, above)];
         let jacobian = Jacobian::new(rods, parts.map(|(rate, _, _)| rate), robot.scale);
+        // |det| of the rods over the product of their lengths: the
+        // determinant of the unit rods (the lengths are 1 on the nominal
+        // machine).
+        let inv_lengths = k0.inv_l * k1.inv_l * k2.inv_l;
         Self {
             joints: [s0.theta, s1.theta, s2.theta],
             position: position_mm,
             margins: Margins {
                 serial: parts.map(|(_, margin, _)| margin),
-                parallel: jacobian.parallel_margin(),
+                parallel: jacobian.rods_abs_det() * inv_lengths,
                 passive_tilt_cos: parts.map(|(_, _, tilt)| tilt),
             },
             jacobian,
@@ -74,16 +79,19 @@ impl<S: Real> Solution<S> {
 /// One arm's Jacobian rate `b_i`, serial margin and passive-joint tilt
 /// cosines `[elbow, platform]`.
 #[inline]
-fn part<S: Real>(robot: &Robot<S>, k: &ArmConstants<S>, state: &ArmState<S>, above: bool) -> (S, S, [S; 2]) {
+fn part<S: Real>(k: &ArmConstants<S>, state: &ArmState<S>, above: bool) -> (S, S, [S; 2]) {
     let [rx, rz] = state.rod;
     // dE/dt = a (-sin t, 0, -cos t) in the arm plane, so b = -a along.
-    let rate = -(robot.a * state.along);
-    // Signed so that the conventions' branch is positive: on the
-    // elbow-out branch `along` is negative below the actuator plane and
-    // positive above it (see `Margins::serial`).
-    let margin = if above { state.along } else { -state.along };
+    let rate = -(k.a * state.along);
+    // Divided by the rod's length (1 on the nominal machine) and signed
+    // so that the conventions' branch is positive: on the elbow-out
+    // branch `along` is negative below the actuator plane and positive
+    // above it (see `Margins::serial`).
+    let along = state.along * k.inv_l;
+    let margin = if above { along } else { -along };
     // The rod in the upper arm's frame is (cos t rx - sin t rz, ry,
-    // along); both neutral axes have no y component.
+    // along); both neutral axes have no y component, and are stored
+    // divided by the rod's length, so these are the tilts' cosines.
     let [ex, ez] = k.elbow_axis;
     let [px, pz] = k.platform_axis;
     let elbow = ex * (state.cos * rx - state.sin * rz) + ez * state.along;

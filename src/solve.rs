@@ -134,18 +134,23 @@ impl<S: Real> Robot<S> {
     /// Forward kinematics for finite joint angles within one turn.
     #[inline]
     fn forward_solve(&self, joints: [S; 3]) -> Result<Solution<S>, Error> {
-        // Finite and within one turn (the callers check), so inside the
-        // bounded sine and cosine's range.
-        let trig = joints.map(Real::sin_cos_bounded);
-        let (p, rods) = forward::solve(self, trig)?;
+        // Finite and within one turn (the callers check), plus a joint
+        // offset of at most 0.2 rad (see `ArmCorrection::validate`), so
+        // inside the bounded sine and cosine's range.
         let [t0, t1, t2] = joints;
+        let [k0, k1, k2] = &self.arms;
+        let trig = [
+            (t0 + k0.joint_offset).sin_cos_bounded(),
+            (t1 + k1.joint_offset).sin_cos_bounded(),
+            (t2 + k2.joint_offset).sin_cos_bounded(),
+        ];
+        let (p, rods) = forward::solve(self, trig)?;
         let [g0, g1, g2] = trig;
-        let [[x0, _, z0], [x1, y1, z1], [x2, y2, z2]] = rods;
-        let [_, k1, k2] = &self.arms;
-        // Each rod's radial component in its arm's plane (arm 0's plane is
-        // the xz plane); z is common to all frames.
+        let [[x0, y0, z0], [x1, y1, z1], [x2, y2, z2]] = rods;
+        // Each rod's radial component in its arm's plane; z is common to
+        // all frames.
         let arms = [
-            ArmState::new(t0, g0, [x0, z0]),
+            ArmState::new(t0, g0, [k0.cos_phi * x0 + k0.sin_phi * y0, z0]),
             ArmState::new(t1, g1, [k1.cos_phi * x1 + k1.sin_phi * y1, z1]),
             ArmState::new(t2, g2, [k2.cos_phi * x2 + k2.sin_phi * y2, z2]),
         ];

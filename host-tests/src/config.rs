@@ -13,13 +13,20 @@
 //! passive_cone_deg = 40.0
 //! min_serial_margin = 0.1
 //! min_parallel_margin = 0.1
+//! [arm_corrections]              # optional: per-arm corrections, arms 0, 1, 2
+//! joint_offset_deg = [0.2, -0.1, 0.05]   # every key optional (absent: zeros)
+//! upper_arm_mm = [0.3, -0.2, 0.0]
+//! lower_arm_mm = [-0.4, 0.1, 0.2]
+//! radial_difference_mm = [0.1, 0.0, -0.3]
+//! azimuth_deg = [0.0, 0.1, -0.2]
+//! axis_height_mm = [0.5, -0.2, 0.0]
 //! [gates.accuracy]               # optional: report gates, see crate::gates
 //! f32_joint_rad = 1e-5
 //! ```
 
 use std::path::Path;
 
-use deltakin::{Arith, Error, Geometry, Limits, Real, Robot};
+use deltakin::{Arith, ArmCorrection, Error, Geometry, Limits, Real, Robot};
 use serde::Deserialize;
 
 /// The demo robot, built into the binary (same text as
@@ -70,6 +77,33 @@ pub struct LimitsFile {
     pub min_parallel_margin: f64,
 }
 
+/// `[arm_corrections]`: each arm's corrections to `[geometry]` (see
+/// [`deltakin::ArmCorrection`]), a list of three per key (arms 0, 1, 2),
+/// millimetres and degrees. An absent key is zero on every arm; an absent
+/// table is the nominal machine.
+#[derive(Clone, Copy, Debug, Default, Deserialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct ArmCorrectionsFile {
+    /// True joint angle at a joint reading of 0 (deg).
+    #[serde(default)]
+    pub joint_offset_deg: [f64; 3],
+    /// Upper arm length correction (mm).
+    #[serde(default)]
+    pub upper_arm_mm: [f64; 3],
+    /// Lower arm length correction (mm).
+    #[serde(default)]
+    pub lower_arm_mm: [f64; 3],
+    /// Correction of the actuator radius minus the platform joint radius (mm).
+    #[serde(default)]
+    pub radial_difference_mm: [f64; 3],
+    /// Azimuth correction of the arm's plane (deg, from +x towards +y).
+    #[serde(default)]
+    pub azimuth_deg: [f64; 3],
+    /// Height of the actuator axis above the base plane (mm).
+    #[serde(default)]
+    pub axis_height_mm: [f64; 3],
+}
+
 /// A whole robot file.
 #[derive(Clone, Debug, Deserialize, PartialEq)]
 #[serde(deny_unknown_fields)]
@@ -80,6 +114,9 @@ pub struct RobotFile {
     pub geometry: GeometryFile,
     /// Limits.
     pub limits: LimitsFile,
+    /// Optional per-arm corrections; absent means the nominal machine.
+    #[serde(default)]
+    pub arm_corrections: Option<ArmCorrectionsFile>,
     /// Optional `[gates]` for `deltakin report` (see [`crate::gates`]);
     /// checked by the report, ignored by `ik` and `fk`.
     #[serde(default)]
@@ -281,6 +318,38 @@ impl RobotFile {
         }
     }
 
+    /// The per-arm corrections in f64 millimetres and radians (all zero
+    /// without an `[arm_corrections]` table).
+    #[must_use]
+    pub fn corrections_f64(&self) -> [ArmCorrection<f64>; 3] {
+        let c = self.arm_corrections.unwrap_or_default();
+        [0, 1, 2].map(|i| ArmCorrection {
+            joint_offset: c.joint_offset_deg[i].to_radians(),
+            upper_arm: c.upper_arm_mm[i],
+            lower_arm: c.lower_arm_mm[i],
+            radial_difference: c.radial_difference_mm[i],
+            azimuth: c.azimuth_deg[i].to_radians(),
+            axis_height: c.axis_height_mm[i],
+        })
+    }
+
+    /// The per-arm corrections exactly as scalar type `S` holds them (each
+    /// number rounded to `S` as [`RobotFile::robot`] does), back in f64:
+    /// what the reference must see to check `S`'s robot. `None` when a
+    /// number is not representable in `S`.
+    #[must_use]
+    pub fn corrections_as_held<S: Real>(&self) -> Option<[ArmCorrection<f64>; 3]> {
+        let c = corrections_in::<S>(&self.corrections_f64())?;
+        Some(c.map(|c| ArmCorrection {
+            joint_offset: c.joint_offset.to_f64(),
+            upper_arm: c.upper_arm.to_f64(),
+            lower_arm: c.lower_arm.to_f64(),
+            radial_difference: c.radial_difference.to_f64(),
+            azimuth: c.azimuth.to_f64(),
+            axis_height: c.axis_height.to_f64(),
+        }))
+    }
+
     /// Builds the robot in scalar type `S`, converting every number from
     /// f64 (rounding to nearest); lengths go to `S::Wide`, the scalar's
     /// API type for millimetres (`S` itself for floats).
@@ -314,8 +383,26 @@ impl RobotFile {
             min_serial_margin: plain("min_serial_margin", l.min_serial_margin, |v| v)?,
             min_parallel_margin: plain("min_parallel_margin", l.min_parallel_margin, |v| v)?,
         };
-        Robot::new(geometry, limits).map_err(ConfigError::Robot)
+        let corrections = corrections_in::<S>(&self.corrections_f64())
+            .ok_or(ConfigError::Robot(Error::InvalidGeometry(deltakin::ConfigFault::Unrepresentable)))?;
+        Robot::with_corrections(geometry, corrections, limits).map_err(ConfigError::Robot)
     }
+}
+
+/// f64 corrections rounded to scalar type `S` (lengths to `S::Wide`), or
+/// `None` when a number is not representable.
+fn corrections_in<S: Real>(c: &[ArmCorrection<f64>; 3]) -> Option<[ArmCorrection<S>; 3]> {
+    let one = |c: &ArmCorrection<f64>| {
+        Some(ArmCorrection {
+            joint_offset: S::from_f64(c.joint_offset)?,
+            upper_arm: S::Wide::from_f64(c.upper_arm)?,
+            lower_arm: S::Wide::from_f64(c.lower_arm)?,
+            radial_difference: S::Wide::from_f64(c.radial_difference)?,
+            azimuth: S::from_f64(c.azimuth)?,
+            axis_height: S::Wide::from_f64(c.axis_height)?,
+        })
+    };
+    Some([one(&c[0])?, one(&c[1])?, one(&c[2])?])
 }
 
 #[cfg(test)]
@@ -343,6 +430,48 @@ mod tests {
         let text = DEMO_ROBOT_TOML.replace("joint_min_deg = -35.0", "joint_min_deg = [-30.0, -31.0, -32.0]");
         let file = RobotFile::parse(&text).unwrap();
         assert_eq!(file.limits.joint_min_deg.values(), [-30.0, -31.0, -32.0]);
+    }
+
+    const CORRECTIONS: &str = "\n[arm_corrections]\njoint_offset_deg = [0.5, -0.25, 0.0]\n\
+        upper_arm_mm = [0.3, -0.2, 0.1]\nlower_arm_mm = [-0.4, 0.1, 0.2]\n\
+        radial_difference_mm = [0.1, 0.0, -0.3]\nazimuth_deg = [0.0, 0.1, -0.2]\naxis_height_mm = [0.5, -0.2, 0.0]\n";
+
+    #[test]
+    fn per_arm_corrections_are_read_in_file_units() {
+        assert_eq!(RobotFile::demo().arm_corrections, None, "the demo robot is nominal");
+        let file = RobotFile::parse(&format!("{DEMO_ROBOT_TOML}{CORRECTIONS}")).unwrap();
+        let c = file.corrections_f64();
+        assert_eq!(c[0].joint_offset, 0.5f64.to_radians());
+        assert_eq!(c[2].azimuth, (-0.2f64).to_radians());
+        assert_eq!(
+            (c[1].upper_arm, c[0].lower_arm, c[2].radial_difference, c[1].axis_height),
+            (-0.2, -0.4, -0.3, -0.2)
+        );
+        let r = file.robot::<f64>().unwrap();
+        let upper = r.upper_arms();
+        // Nominal 280 mm plus the correction, within a rounding of the units' round trip.
+        assert!((upper[0] - 280.3).abs() < 1e-12 && (upper[1] - 279.8).abs() < 1e-12, "{upper:?}");
+        file.robot::<f32>().unwrap();
+        file.robot::<deltakin::Fixed>().unwrap();
+    }
+
+    #[test]
+    fn per_arm_keys_may_be_left_out_but_not_misspelt_or_short() {
+        let text = format!("{DEMO_ROBOT_TOML}\n[arm_corrections]\nupper_arm_mm = [0.1, 0.2, 0.3]\n");
+        let c = RobotFile::parse(&text).unwrap().corrections_f64();
+        assert_eq!((c[2].upper_arm, c[2].lower_arm, c[2].joint_offset), (0.3, 0.0, 0.0));
+        for bad in ["upper_arm = [0.1, 0.2, 0.3]", "upper_arm_mm = [0.1, 0.2]", "upper_arm_mm = 0.1"] {
+            let text = format!("{DEMO_ROBOT_TOML}\n[arm_corrections]\n{bad}\n");
+            assert!(matches!(RobotFile::parse(&text), Err(ConfigError::Parse(_))), "{bad}");
+        }
+    }
+
+    #[test]
+    fn a_bad_correction_names_the_arm_and_the_parameter() {
+        // 2 rad of joint offset: a value in degrees read as radians would look like this.
+        let text = format!("{DEMO_ROBOT_TOML}\n[arm_corrections]\njoint_offset_deg = [0.0, 0.0, 114.6]\n");
+        let err = RobotFile::parse(&text).unwrap().robot::<f64>().unwrap_err();
+        assert_eq!(err.to_string(), "invalid arm 2 joint zero offset: the correction exceeds its admitted range");
     }
 
     #[test]

@@ -23,7 +23,7 @@ use serde::Serialize;
 use crate::bounds;
 use crate::config::RobotFile;
 use crate::progress;
-use crate::reference;
+use crate::reference::{self, PerArmMachine};
 use crate::stats::{self, Extreme, Summary};
 use crate::sweep::{self, Density, PointSet, par_map_progress};
 
@@ -255,11 +255,12 @@ struct Setup {
     r32: Robot<f32>,
     /// `None` when the robot lies outside the fixed-point envelope.
     rfx: Option<Robot<Fixed>>,
-    /// Each core's dimensions exactly as its number type holds them.
-    geometries: [Geometry<f64>; 3],
+    /// Each core's machine (dimensions and per-arm corrections) exactly
+    /// as its number type holds them.
+    geometries: [PerArmMachine; 3],
 }
 
-fn reference_solve(kind: Kind, g: &Geometry<f64>, input: [f64; 3]) -> Option<[f64; 3]> {
+fn reference_solve(kind: Kind, g: &PerArmMachine, input: [f64; 3]) -> Option<[f64; 3]> {
     match kind {
         Kind::Inverse => reference::inverse(g, input),
         Kind::Forward => reference::forward(g, input),
@@ -267,7 +268,7 @@ fn reference_solve(kind: Kind, g: &Geometry<f64>, input: [f64; 3]) -> Option<[f6
 }
 
 /// A question for the reference: dimensions and input.
-type Question = (Geometry<f64>, [f64; 3]);
+type Question = (PerArmMachine, [f64; 3]);
 
 fn sample(setup: &Setup, kind: Kind, input: [f64; 3]) -> Sample {
     let sides = [
@@ -490,10 +491,15 @@ pub fn run(
     let r32 = file.robot::<f32>()?;
     // Outside the fixed-point envelope the report covers the floats only.
     let rfx = file.robot::<Fixed>().ok();
+    let corrections64 = file.corrections_f64();
+    let corrections32 = file.corrections_as_held::<f32>().unwrap_or(corrections64);
+    let corrections_fx = file.corrections_as_held::<Fixed>().unwrap_or(corrections64);
     let geometries = [
-        *r64.geometry(),
-        geometry_as_f64(r32.geometry()),
-        rfx.as_ref().map_or(*r64.geometry(), |r| geometry_as_f64(r.geometry())),
+        PerArmMachine::new(r64.geometry(), &corrections64),
+        PerArmMachine::new(&geometry_as_f64(r32.geometry()), &corrections32),
+        rfx.as_ref().map_or(PerArmMachine::new(r64.geometry(), &corrections64), |r| {
+            PerArmMachine::new(&geometry_as_f64(r.geometry()), &corrections_fx)
+        }),
     ];
     let setup = Setup { geometries, r64, r32, rfx };
     let g = &file.geometry;

@@ -25,7 +25,7 @@ use rayon::prelude::*;
 
 use crate::config::RobotFile;
 use crate::plan;
-use crate::reference;
+use crate::reference::{self, PerArmMachine};
 use crate::sweep::{Density, geometry_box, snap_f32};
 use crate::volume::UsableVolume;
 
@@ -348,7 +348,7 @@ fn geometry_as_f64(g: &Geometry<f32>) -> Geometry<f64> {
 /// Joint-angle error (rad) of the guarded f32 IK at `p` (f32-rounded)
 /// against the reference on the f32-rounded dimensions; `None` when the
 /// f64 or the f32 guard rejects the point or the reference finds nothing.
-fn f32_ik_error(r64: &Robot<f64>, r32: &Robot<f32>, g32: &Geometry<f64>, p: [f64; 3]) -> Option<f64> {
+fn f32_ik_error(r64: &Robot<f64>, r32: &Robot<f32>, g32: &PerArmMachine, p: [f64; 3]) -> Option<f64> {
     let p = snap_f32(p);
     r64.inverse(p).ok()?;
     #[allow(clippy::cast_possible_truncation)]
@@ -367,7 +367,8 @@ fn error_map(
 ) -> PlotResult<()> {
     let r64 = file.robot::<f64>()?;
     let r32 = file.robot::<f32>()?;
-    let g32 = geometry_as_f64(r32.geometry());
+    let corrections32 = file.corrections_as_held::<f32>().unwrap_or_else(|| file.corrections_f64());
+    let g32 = PerArmMachine::new(&geometry_as_f64(r32.geometry()), &corrections32);
     let z = usable.map_or(0.5 * (v.z.0 + v.z.1), |u| u.cube.centre_mm[2]);
     let xs = span(-v.half, v.half, n);
     let bar = crate::progress::bar(n * n, "error map (reference IK)");

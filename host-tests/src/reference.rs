@@ -12,6 +12,22 @@
 //!
 //! evaluated literally, as vectors in the base frame, in millimetres.
 //!
+//! # Per-arm machines
+//! Every function takes any [`Machine`]: a nominal [`Geometry`] or a
+//! [`PerArmMachine`], whose arms each have their own dimensions, azimuth,
+//! actuator axis height and joint zero offset ([`ArmModel`]). The machine
+//! is then the same literal construction with each arm's own numbers:
+//!
+//! ```text
+//!   E_i = R_z(phi_i) (base_radius_i + upper_arm_i cos(t_i + offset_i), 0,
+//!                     axis_height_i - upper_arm_i sin(t_i + offset_i))
+//!   P_i = p + R_z(phi_i) (platform_radius_i, 0, 0),     |E_i - P_i| = lower_arm_i
+//! ```
+//!
+//! with `t_i` the joint reading. A per-arm correction of the radial
+//! difference goes to the actuator radius (`base_radius_i`), the platform
+//! radius stays nominal: the closure sees only their difference.
+//!
 //! # Inverse kinematics: sampling and bracketing, arm by arm
 //! For each arm the residual `f(t) = |E_i(t) - P_i|^2 - lower_arm^2` is
 //! sampled on the whole circle at a fixed step of `2 pi / IK_SAMPLES`.
@@ -47,7 +63,7 @@
 //! Cost: thousands of trigonometric evaluations per call. This is a test
 //! oracle, not a solver.
 
-use deltakin::Geometry;
+use deltakin::{ArmCorrection, Geometry};
 
 /// Samples of the whole circle in the inverse-kinematics root search
 /// (step 2 pi / 4096 = 1.5 mrad).
@@ -74,9 +90,84 @@ const GOLDEN_STEPS: usize = 80;
 /// a bracket of one sample step).
 const BISECTION_STEPS: usize = 200;
 
-/// Azimuth (rad) of arm `i`.
-fn azimuth(arm: usize) -> f64 {
-    (120.0 * arm as f64).to_radians()
+/// One arm of a machine, every parameter literal: millimetres and radians.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct ArmModel {
+    /// Base centre to the actuator axis, radially (mm).
+    pub base_radius: f64,
+    /// Platform centre to the platform joint axis, radially (mm).
+    pub platform_radius: f64,
+    /// Actuator axis to elbow axis (mm).
+    pub upper_arm: f64,
+    /// Elbow axis to platform joint axis (mm).
+    pub lower_arm: f64,
+    /// Azimuth of the arm's vertical plane (rad, from +x towards +y).
+    pub azimuth: f64,
+    /// Height of the actuator axis above the base plane (mm).
+    pub axis_height: f64,
+    /// True joint angle at a joint reading of 0 (rad).
+    pub joint_offset: f64,
+}
+
+/// A machine the reference can solve: three arms.
+pub trait Machine {
+    /// Arm `i` (0, 1 or 2).
+    fn arm(&self, i: usize) -> ArmModel;
+}
+
+impl Machine for Geometry<f64> {
+    fn arm(&self, i: usize) -> ArmModel {
+        ArmModel {
+            base_radius: self.base_radius,
+            platform_radius: self.platform_radius,
+            upper_arm: self.upper_arm,
+            lower_arm: self.lower_arm,
+            azimuth: (120.0 * i as f64).to_radians(),
+            axis_height: 0.0,
+            joint_offset: 0.0,
+        }
+    }
+}
+
+/// A machine whose arms differ: the nominal geometry with per-arm
+/// corrections applied, literally.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct PerArmMachine {
+    /// Arms 0, 1, 2.
+    pub arms: [ArmModel; 3],
+}
+
+impl PerArmMachine {
+    /// The machine `g` with `corrections` (mm and rad, as in the core's
+    /// [`ArmCorrection`]) added arm by arm.
+    #[must_use]
+    pub fn new(g: &Geometry<f64>, corrections: &[ArmCorrection<f64>; 3]) -> Self {
+        let arms = [0, 1, 2].map(|i| {
+            let c = &corrections[i];
+            let nominal = g.arm(i);
+            ArmModel {
+                base_radius: nominal.base_radius + c.radial_difference,
+                upper_arm: nominal.upper_arm + c.upper_arm,
+                lower_arm: nominal.lower_arm + c.lower_arm,
+                azimuth: nominal.azimuth + c.azimuth,
+                axis_height: c.axis_height,
+                joint_offset: c.joint_offset,
+                ..nominal
+            }
+        });
+        Self { arms }
+    }
+}
+
+impl Machine for PerArmMachine {
+    fn arm(&self, i: usize) -> ArmModel {
+        self.arms[i]
+    }
+}
+
+/// The longest lower arm of a machine (mm): the scale of its tolerances.
+fn longest_lower_arm<M: Machine + ?Sized>(g: &M) -> f64 {
+    (0..3).map(|i| g.arm(i).lower_arm).fold(0.0, f64::max)
 }
 
 /// Rotates `v` by `angle` (rad) about z.
@@ -89,45 +180,50 @@ fn distance(a: [f64; 3], b: [f64; 3]) -> f64 {
     ((a[0] - b[0]).powi(2) + (a[1] - b[1]).powi(2) + (a[2] - b[2]).powi(2)).sqrt()
 }
 
-/// Elbow position (mm, base frame) of arm `arm` at joint angle `theta`
-/// (rad), straight from the conventions.
+/// Elbow position (mm, base frame) of arm `arm` at joint reading `theta`
+/// (rad), straight from the conventions (with the arm's own parameters).
 #[must_use]
-pub fn elbow(g: &Geometry<f64>, arm: usize, theta: f64) -> [f64; 3] {
-    let local = [g.base_radius + g.upper_arm * theta.cos(), 0.0, -g.upper_arm * theta.sin()];
-    rotate_z(azimuth(arm), local)
+pub fn elbow<M: Machine + ?Sized>(g: &M, arm: usize, theta: f64) -> [f64; 3] {
+    let m = g.arm(arm);
+    let t = theta + m.joint_offset;
+    let local = [m.base_radius + m.upper_arm * t.cos(), 0.0, m.axis_height - m.upper_arm * t.sin()];
+    rotate_z(m.azimuth, local)
 }
 
 /// Position (mm, base frame) of arm `arm`'s platform joint when the
 /// platform centre is at `p` (mm).
 #[must_use]
-pub fn platform_joint(g: &Geometry<f64>, arm: usize, p: [f64; 3]) -> [f64; 3] {
-    let r = rotate_z(azimuth(arm), [g.platform_radius, 0.0, 0.0]);
+pub fn platform_joint<M: Machine + ?Sized>(g: &M, arm: usize, p: [f64; 3]) -> [f64; 3] {
+    let m = g.arm(arm);
+    let r = rotate_z(m.azimuth, [m.platform_radius, 0.0, 0.0]);
     [p[0] + r[0], p[1] + r[1], p[2] + r[2]]
 }
 
 /// Length of each lower arm (mm), elbow to platform joint, for joint
 /// angles `theta` (rad) and platform centre `p` (mm). A consistent pose
-/// gives `lower_arm` three times.
+/// gives each arm's `lower_arm`.
 #[must_use]
-pub fn rod_lengths(g: &Geometry<f64>, theta: [f64; 3], p: [f64; 3]) -> [f64; 3] {
+pub fn rod_lengths<M: Machine + ?Sized>(g: &M, theta: [f64; 3], p: [f64; 3]) -> [f64; 3] {
     [0, 1, 2].map(|i| distance(elbow(g, i, theta[i]), platform_joint(g, i, p)))
 }
 
-/// Largest closure error `| |E_i - P_i| - lower_arm |` (mm) over the arms.
+/// Largest closure error `| |E_i - P_i| - lower_arm_i |` (mm) over the arms.
 #[must_use]
-pub fn closure_error(g: &Geometry<f64>, theta: [f64; 3], p: [f64; 3]) -> f64 {
-    rod_lengths(g, theta, p).iter().map(|l| (l - g.lower_arm).abs()).fold(0.0, f64::max)
+pub fn closure_error<M: Machine + ?Sized>(g: &M, theta: [f64; 3], p: [f64; 3]) -> f64 {
+    let lengths = rod_lengths(g, theta, p);
+    (0..3).map(|i| (lengths[i] - g.arm(i).lower_arm).abs()).fold(0.0, f64::max)
 }
 
-fn closes(g: &Geometry<f64>, theta: [f64; 3], p: [f64; 3]) -> bool {
-    closure_error(g, theta, p) <= RESIDUAL_REL_TOL * g.lower_arm
+fn closes<M: Machine + ?Sized>(g: &M, theta: [f64; 3], p: [f64; 3]) -> bool {
+    closure_error(g, theta, p) <= RESIDUAL_REL_TOL * longest_lower_arm(g)
 }
 
-/// The closure residual of one arm, `|E_i(t) - P_i|^2 - lower_arm^2` (mm^2).
-fn residual(g: &Geometry<f64>, arm: usize, t: f64, joint: [f64; 3]) -> f64 {
+/// The closure residual of one arm, `|E_i(t) - P_i|^2 - lower_arm_i^2` (mm^2).
+fn residual<M: Machine + ?Sized>(g: &M, arm: usize, t: f64, joint: [f64; 3]) -> f64 {
     let e = elbow(g, arm, t);
     let d2 = (e[0] - joint[0]).powi(2) + (e[1] - joint[1]).powi(2) + (e[2] - joint[2]).powi(2);
-    d2 - g.lower_arm * g.lower_arm
+    let l = g.arm(arm).lower_arm;
+    d2 - l * l
 }
 
 /// Bisection of a bracket `[lo, hi]` with `f(lo)` and `f(hi)` of opposite
@@ -183,14 +279,16 @@ fn golden_min(h: &dyn Fn(f64) -> f64, mut lo: f64, mut hi: f64) -> f64 {
 /// Every root in `[-pi, pi)` of arm `arm`'s closure for platform centre
 /// `p` (mm), in radians, in no particular order; duplicates possible.
 #[must_use]
-pub fn arm_roots(g: &Geometry<f64>, arm: usize, p: [f64; 3]) -> Vec<f64> {
+pub fn arm_roots<M: Machine + ?Sized>(g: &M, arm: usize, p: [f64; 3]) -> Vec<f64> {
     let joint = platform_joint(g, arm, p);
     let f = |t: f64| residual(g, arm, t, joint);
     let step = 2.0 * std::f64::consts::PI / IK_SAMPLES as f64;
     let ts: Vec<f64> = (0..=IK_SAMPLES).map(|k| -std::f64::consts::PI + step * k as f64).collect();
     let fs: Vec<f64> = ts.iter().map(|&t| f(t)).collect();
     // Rounding scale of the residual: squares of lengths of order |E| + |P| + l.
-    let scale = g.base_radius + g.upper_arm + g.lower_arm + joint.iter().map(|v| v.abs()).sum::<f64>();
+    let m = g.arm(arm);
+    let scale =
+        m.base_radius + m.upper_arm + m.lower_arm + m.axis_height.abs() + joint.iter().map(|v| v.abs()).sum::<f64>();
     let touch_tol = 64.0 * f64::EPSILON * scale * scale;
     let mut roots = Vec::new();
     for k in 0..IK_SAMPLES {
@@ -225,22 +323,24 @@ pub fn arm_roots(g: &Geometry<f64>, arm: usize, p: [f64; 3]) -> Vec<f64> {
     roots.iter().map(|&t| if t >= std::f64::consts::PI { t - 2.0 * std::f64::consts::PI } else { t }).collect()
 }
 
-/// Elbow-out joint angle (rad) of one arm for platform centre `p` (mm),
-/// or `None` when the arm cannot reach it.
+/// Elbow-out joint reading (rad) of one arm for platform centre `p` (mm),
+/// or `None` when the arm cannot reach it. Elbow-out is the larger cosine
+/// of the true angle (reading plus joint offset).
 #[must_use]
-pub fn inverse_arm(g: &Geometry<f64>, arm: usize, p: [f64; 3]) -> Option<f64> {
+pub fn inverse_arm<M: Machine + ?Sized>(g: &M, arm: usize, p: [f64; 3]) -> Option<f64> {
+    let m = g.arm(arm);
     let roots = arm_roots(g, arm, p);
     let best = roots.into_iter().fold(None, |best: Option<f64>, t| match best {
-        Some(b) if b.cos() >= t.cos() => Some(b),
+        Some(b) if (b + m.joint_offset).cos() >= (t + m.joint_offset).cos() => Some(b),
         _ => Some(t),
     })?;
-    let closure = (distance(elbow(g, arm, best), platform_joint(g, arm, p)) - g.lower_arm).abs();
-    (closure <= RESIDUAL_REL_TOL * g.lower_arm).then_some(best)
+    let closure = (distance(elbow(g, arm, best), platform_joint(g, arm, p)) - m.lower_arm).abs();
+    (closure <= RESIDUAL_REL_TOL * m.lower_arm).then_some(best)
 }
 
-/// Elbow-out joint angles (rad) for platform centre `p` (mm), or `None`.
+/// Elbow-out joint readings (rad) for platform centre `p` (mm), or `None`.
 #[must_use]
-pub fn inverse(g: &Geometry<f64>, p: [f64; 3]) -> Option<[f64; 3]> {
+pub fn inverse<M: Machine + ?Sized>(g: &M, p: [f64; 3]) -> Option<[f64; 3]> {
     if !p.iter().all(|v| v.is_finite()) {
         return None;
     }
@@ -255,29 +355,35 @@ pub fn inverse(g: &Geometry<f64>, p: [f64; 3]) -> Option<[f64; 3]> {
 /// are mirror images across the line joining the two circles' centres.
 /// `None` when those centres coincide (the roots then form a continuum).
 #[must_use]
-pub fn other_root(g: &Geometry<f64>, arm: usize, theta: f64, p: [f64; 3]) -> Option<f64> {
-    // Work in the arm's plane frame: x radial, z up (y drops out).
-    let joint = rotate_z(-azimuth(arm), platform_joint(g, arm, p));
-    let elbow = rotate_z(-azimuth(arm), elbow(g, arm, theta));
-    let axis = [joint[0] - g.base_radius, joint[2]];
+pub fn other_root<M: Machine + ?Sized>(g: &M, arm: usize, theta: f64, p: [f64; 3]) -> Option<f64> {
+    let m = g.arm(arm);
+    // Work in the arm's plane frame: x radial, z up (y drops out), from
+    // the actuator axis.
+    let joint = rotate_z(-m.azimuth, platform_joint(g, arm, p));
+    let elbow = rotate_z(-m.azimuth, elbow(g, arm, theta));
+    let axis = [joint[0] - m.base_radius, joint[2] - m.axis_height];
     let len = axis[0].hypot(axis[1]);
     if len.is_nan() || len <= 0.0 {
         return None;
     }
     let u = [axis[0] / len, axis[1] / len];
-    let e = [elbow[0] - g.base_radius, elbow[2]];
+    let e = [elbow[0] - m.base_radius, elbow[2] - m.axis_height];
     let along = e[0] * u[0] + e[1] * u[1];
     let mirrored = [2.0 * along * u[0] - e[0], 2.0 * along * u[1] - e[1]];
-    // Elbow offset is upper_arm (cos t, -sin t).
-    Some((-mirrored[1]).atan2(mirrored[0]))
+    // Elbow offset is upper_arm (cos t, -sin t), t the true angle.
+    Some((-mirrored[1]).atan2(mirrored[0]) - m.joint_offset)
 }
 
 /// `true` when every arm of the pose (`theta` rad, `p` mm) sits on the
-/// elbow-out branch of the conventions (`cos theta_i` at least that of the
-/// other root), so that inverse kinematics would give `theta` back.
+/// elbow-out branch of the conventions (the cosine of the true angle at
+/// least that of the other root's), so that inverse kinematics would give
+/// `theta` back.
 #[must_use]
-pub fn is_elbow_out(g: &Geometry<f64>, theta: [f64; 3], p: [f64; 3]) -> bool {
-    (0..3).all(|i| other_root(g, i, theta[i], p).is_some_and(|other| theta[i].cos() >= other.cos()))
+pub fn is_elbow_out<M: Machine + ?Sized>(g: &M, theta: [f64; 3], p: [f64; 3]) -> bool {
+    (0..3).all(|i| {
+        let offset = g.arm(i).joint_offset;
+        other_root(g, i, theta[i], p).is_some_and(|other| (theta[i] + offset).cos() >= (other + offset).cos())
+    })
 }
 
 /// Solves the 3x3 system `m x = b` by Gaussian elimination with partial
@@ -311,15 +417,15 @@ fn solve3(mut m: [[f64; 3]; 3], mut b: [f64; 3]) -> Option<[f64; 3]> {
 }
 
 /// One Newton run from `start`; the converged point, or `None`.
-fn newton(g: &Geometry<f64>, elbows: [[f64; 3]; 3], start: [f64; 3]) -> Option<[f64; 3]> {
-    let l2 = g.lower_arm * g.lower_arm;
+fn newton<M: Machine + ?Sized>(g: &M, elbows: [[f64; 3]; 3], start: [f64; 3]) -> Option<[f64; 3]> {
+    let l2 = [0, 1, 2].map(|i| g.arm(i).lower_arm.powi(2));
     let eval = |p: [f64; 3]| -> ([f64; 3], [[f64; 3]; 3]) {
         let mut f = [0.0; 3];
         let mut jac = [[0.0; 3]; 3];
         for i in 0..3 {
             let pj = platform_joint(g, i, p);
             let s = [pj[0] - elbows[i][0], pj[1] - elbows[i][1], pj[2] - elbows[i][2]];
-            f[i] = s[0] * s[0] + s[1] * s[1] + s[2] * s[2] - l2;
+            f[i] = s[0] * s[0] + s[1] * s[1] + s[2] * s[2] - l2[i];
             jac[i] = [2.0 * s[0], 2.0 * s[1], 2.0 * s[2]];
         }
         (f, jac)
@@ -327,7 +433,7 @@ fn newton(g: &Geometry<f64>, elbows: [[f64; 3]; 3], start: [f64; 3]) -> Option<[
     let merit = |f: [f64; 3]| f[0] * f[0] + f[1] * f[1] + f[2] * f[2];
     let mut p = start;
     let (mut f, mut jac) = eval(p);
-    let step_tol = 1e-13 * g.lower_arm;
+    let step_tol = 1e-13 * longest_lower_arm(g);
     for _ in 0..FK_MAX_ITERATIONS {
         let dx = solve3(jac, f)?;
         let mut lambda = 1.0;
@@ -358,7 +464,7 @@ fn newton(g: &Geometry<f64>, elbows: [[f64; 3]; 3], start: [f64; 3]) -> Option<[
 /// Lower-branch platform centre (mm) for joint angles `theta` (rad), or
 /// `None` when the loops cannot be closed.
 #[must_use]
-pub fn forward(g: &Geometry<f64>, theta: [f64; 3]) -> Option<[f64; 3]> {
+pub fn forward<M: Machine + ?Sized>(g: &M, theta: [f64; 3]) -> Option<[f64; 3]> {
     if !theta.iter().all(|v| v.is_finite()) {
         return None;
     }
@@ -366,7 +472,8 @@ pub fn forward(g: &Geometry<f64>, theta: [f64; 3]) -> Option<[f64; 3]> {
     let centre = [0, 1].map(|k| elbows.iter().map(|e| e[k]).sum::<f64>() / 3.0);
     let lowest = elbows.iter().map(|e| e[2]).fold(f64::INFINITY, f64::min);
     let highest = elbows.iter().map(|e| e[2]).fold(f64::NEG_INFINITY, f64::max);
-    let starts = [[centre[0], centre[1], lowest - g.lower_arm], [centre[0], centre[1], highest + g.lower_arm]];
+    let reach = longest_lower_arm(g);
+    let starts = [[centre[0], centre[1], lowest - reach], [centre[0], centre[1], highest + reach]];
     starts
         .iter()
         .filter_map(|&s| newton(g, elbows, s))
@@ -377,7 +484,7 @@ pub fn forward(g: &Geometry<f64>, theta: [f64; 3]) -> Option<[f64; 3]> {
 /// Central finite-difference Jacobian `dp/dtheta` (mm/rad, rows x, y, z)
 /// of the reference forward kinematics at `theta`, with step `h` (rad).
 #[must_use]
-pub fn jacobian_fd(g: &Geometry<f64>, theta: [f64; 3], h: f64) -> Option<[[f64; 3]; 3]> {
+pub fn jacobian_fd<M: Machine + ?Sized>(g: &M, theta: [f64; 3], h: f64) -> Option<[[f64; 3]; 3]> {
     let mut m = [[0.0; 3]; 3];
     for j in 0..3 {
         let (mut tp, mut tm) = (theta, theta);

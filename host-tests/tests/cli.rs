@@ -597,3 +597,56 @@ fn a_non_finite_moves_number_is_named_by_its_key_not_blamed_on_the_number_type()
         }
     }
 }
+
+/// The demo robot with an `[arm_corrections]` table (invented numbers of
+/// the size a calibration finds).
+const PER_ARM_TABLE: &str = "\n[arm_corrections]\njoint_offset_deg = [0.5, -0.3, 0.2]\n\
+    upper_arm_mm = [0.4, -0.2, 0.1]\nlower_arm_mm = [-0.6, 0.3, 0.2]\nradial_difference_mm = [0.2, -0.5, 0.0]\n\
+    azimuth_deg = [0.1, -0.2, 0.3]\naxis_height_mm = [0.5, -0.4, 0.8]\n";
+
+#[test]
+fn a_per_arm_robot_file_is_used_by_ik_fk_and_plan() {
+    let text = format!("{DEMO_ROBOT_TOML}{PER_ARM_TABLE}");
+    let path = temp_file("per_arm_robot.toml", &text);
+    let robot = path.to_str().unwrap();
+    let file = RobotFile::parse(&text).unwrap();
+    let machine = deltakin_harness::reference::PerArmMachine::new(&file.geometry_f64(), &file.corrections_f64());
+    let targets = [[0.0, 0.0, -700.0], [100.0, -50.0, -750.0], [-150.0, 120.0, -820.0]];
+    let ik = run(&["ik", "--robot", robot], &csv_of(POSITION_IN, &targets));
+    assert!(ik.status.success(), "{}", String::from_utf8_lossy(&ik.stderr));
+    let nominal = run(&["ik"], &csv_of(POSITION_IN, &targets));
+    let (lines, plain) = (stdout_lines(&ik), stdout_lines(&nominal));
+    let mut joints = Vec::new();
+    for ((p, line), plain) in targets.iter().zip(&lines[1..]).zip(&plain[1..]) {
+        let got = parse_out_row(line).0.expect("solved");
+        let want = deltakin_harness::reference::inverse(&machine, *p).expect("reference solves it");
+        for k in 0..3 {
+            // f64 core against the per-arm reference (bounds.rs), in degrees.
+            assert!((got[k].to_radians() - want[k]).abs() <= bounds::F64_JOINT_ERR_RAD, "{p:?}: {line}");
+        }
+        // The corrections move the joints by up to tenths of a degree.
+        let plain = parse_out_row(plain).0.expect("nominal solved");
+        assert!((0..3).any(|k| (got[k] - plain[k]).abs() > 0.05), "{line} vs nominal {plain:?}");
+        joints.push(got);
+    }
+    let fk = run(&["fk", "--robot", robot], &csv_of(JOINT_IN, &joints));
+    assert!(fk.status.success());
+    for (p, line) in targets.iter().zip(&stdout_lines(&fk)[1..]) {
+        let q = parse_out_row(line).0.expect("assembled");
+        let err = ((q[0] - p[0]).powi(2) + (q[1] - p[1]).powi(2) + (q[2] - p[2]).powi(2)).sqrt();
+        assert!(err <= bounds::F64_POS_ERR_MM, "{p:?} came back as {q:?}");
+    }
+    let moves = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../examples/demo_moves.toml");
+    let plan = run(&["plan", "--robot", robot, "--moves", moves.to_str().unwrap()], "");
+    assert!(plan.status.success(), "{}", String::from_utf8_lossy(&plan.stderr));
+    assert!(stdout_lines(&plan).len() > 100);
+    // A correction out of range is a configuration error naming arm and parameter.
+    let bad = temp_file(
+        "per_arm_bad.toml",
+        &text.replace("azimuth_deg = [0.1, -0.2, 0.3]", "azimuth_deg = [0.1, 20.0, 0.3]"),
+    );
+    let out = run(&["ik", "--robot", bad.to_str().unwrap()], &csv_of(POSITION_IN, &targets));
+    assert_eq!(out.status.code(), Some(EXIT_USAGE));
+    let msg = String::from_utf8_lossy(&out.stderr);
+    assert!(msg.contains("arm 1 actuator azimuth"), "{msg}");
+}

@@ -89,7 +89,7 @@
 
 use crate::error::{Bound, Error, JointEnd};
 use crate::robot::Robot;
-use crate::scalar::Real;
+use crate::scalar::{Arith, Real};
 use crate::solution::Margins;
 
 use super::error::{MotionError, MotionFault};
@@ -159,7 +159,7 @@ struct Rates<P> {
     rod2: P,
 }
 
-fn convert3<B: Real, A: Real>(v: [A; 3]) -> Result<[B; 3], MotionError> {
+fn convert3<B: Arith, A: Arith>(v: [A; 3]) -> Result<[B; 3], MotionError> {
     Ok([convert(v[0])?, convert(v[1])?, convert(v[2])?])
 }
 
@@ -193,15 +193,12 @@ fn larger_root<P: Real>(b: P, c: P) -> Option<P> {
 
 impl<P: Real> Reach<P> {
     pub(crate) fn new<S: Real>(robot: &Robot<S>) -> Result<Self, MotionError> {
-        let g = robot.geometry();
         let l = robot.limits();
-        let upper: P = convert(g.upper_arm)?;
-        let lower: P = convert(g.lower_arm)?;
         let cone: P = convert(l.passive_cone)?;
         let (sin_cone, cos_cone) = cone.sin_cos();
         Ok(Self {
-            upper: [upper; 3],
-            lower: [lower; 3],
+            upper: convert3(robot.upper_arms())?,
+            lower: convert3(robot.lower_arms())?,
             joint_min: convert3(l.joint_min)?,
             joint_max: convert3(l.joint_max)?,
             min_serial: convert(l.min_serial_margin)?,
