@@ -77,8 +77,9 @@ impl<S: Copy> Limits<S> {
 ///
 /// Plain `Copy` data without pointers: build it once at start-up and keep
 /// it wherever the firmware keeps its state (a `static` cell, a task's
-/// resources, a field of the motion controller). Building costs one
-/// square root, a division and four sine/cosine pairs.
+/// resources, a field of the motion controller). Building costs, per arm,
+/// a square root, two divisions and one or two sine/cosine pairs, plus
+/// one pair for the cone.
 ///
 /// # Passive joints
 /// Each lower arm ends in a ball (or universal) joint at the elbow and at

@@ -20,7 +20,7 @@ use proptest::prelude::*;
 mod common;
 
 // The bounds and their measured figures live with the others.
-use deltakin_harness::bounds::{FIXED_JOINT_ERR_RAD, FIXED_POS_ERR_MM, fixed_pos_err_mm};
+use deltakin_harness::bounds::{FIXED_JOINT_ERR_RAD, fixed_pos_err_mm};
 /// A pose counts as clear of a guard threshold when every margin, tilt
 /// cosine and joint angle is at least this far from its limit; there the
 /// fixed and f64 guards must agree. Far above the fixed rounding (1e-6).
@@ -738,6 +738,7 @@ const SHORT_UPPER_ARM_FK_MAX_MM: f64 = 2e-3;
 /// (above 64) left Q7.25 and inverse kinematics called the pose
 /// unreachable. The sine and cosine are now quotients there.
 #[test]
+#[allow(clippy::inconsistent_digit_grouping)] // exact binary fractions, as printed by the generator
 fn platform_joint_near_the_actuator_axis_is_solved_not_refused() {
     let g0 = Geometry {
         base_radius: 2001.000_976_562_5,

@@ -13,6 +13,8 @@ use deltakin_harness::config::RobotFile;
 use proptest::prelude::*;
 use proptest::test_runner::{Config, RngAlgorithm, TestRng, TestRunner};
 
+mod common;
+
 /// Cases per property (kept small: each case streams thousands of
 /// setpoints through the debug-build kinematics).
 const MOVE_CASES: u32 = 40;
@@ -39,7 +41,7 @@ fn to_f64<A: Arith>(v: [A; 3]) -> [f64; 3] {
 
 fn runner(cases: u32) -> TestRunner {
     TestRunner::new_with_rng(
-        Config { cases, failure_persistence: None, ..Config::default() },
+        Config { cases: common::cases(cases), failure_persistence: None, ..Config::default() },
         TestRng::deterministic_rng(RngAlgorithm::ChaCha),
     )
 }

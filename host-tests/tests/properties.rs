@@ -10,11 +10,15 @@
 //! neutral pose, passive cone 0.7 rad (40 deg), both margins at least 0.1.
 //! Poses: joint angles drawn inside the range and kept when the guarded
 //! f64 core accepts them and every arm is on the elbow-out branch (checked
-//! by the reference's mirror construction); about one draw in five is kept.
+//! by the reference's mirror construction); a refused draw (about four in
+//! five) is mapped to the last accepted pose on the joint-space path to it
+//! from the neutral pose, a pose at the limit of the guard that refused
+//! it. So every draw is a case and nothing is filtered (measured: none of
+//! 5,000 draws needed the filter).
 //!
 //! Case counts are named constants (the any-bit-pattern count runs once
-//! for f32 and once for f64). Runs are reproducible: the seed is fixed
-//! unless `PROPTEST_RNG_SEED` is set.
+//! for f32 and once for f64); `PROPTEST_CASES` overrides them all. Runs are
+//! reproducible: the seed is fixed unless `PROPTEST_RNG_SEED` is set.
 
 // `ensure!` negates its condition on purpose: a NaN error fails the check.
 #![allow(clippy::neg_cmp_op_on_partial_ord)]
@@ -25,7 +29,9 @@ use deltakin::{Error, Geometry, Input, Limits, Robot, Solution};
 use deltakin_harness::bounds;
 use deltakin_harness::reference;
 use proptest::prelude::*;
-use proptest::test_runner::{Config, RngSeed, TestCaseError, TestRunner};
+use proptest::test_runner::{TestCaseError, TestRunner};
+
+mod common;
 
 /// Round trips and closure, f64 and f32.
 const CASES_ROUND_TRIP: u32 = 512;
@@ -42,9 +48,6 @@ const CASES_MAPS: u32 = 512;
 const CASES_NON_FINITE: u32 = 128;
 /// Arbitrary bit patterns, f32 and f64.
 const CASES_ANY_BITS: u32 = 2048;
-
-/// Seed used unless `PROPTEST_RNG_SEED` names another.
-const SEED: u64 = 0x6465_6c74_616b_696e;
 
 // Tolerances. "Measured" is the worst case over four to six runs with
 // different seeds (2,000 to 3,000 cases per property).
@@ -78,22 +81,13 @@ const FD_REL_TOL: f64 = 1e-8;
 const MAPS_F64_REL: f64 = 5e-14;
 const MAPS_F32_REL: f64 = 1e-5;
 
-fn config(cases: u32) -> Config {
-    let base = Config::default();
-    let seed = match base.rng_seed {
-        RngSeed::Fixed(s) => RngSeed::Fixed(s),
-        RngSeed::Random => RngSeed::Fixed(SEED),
-    };
-    Config { cases, failure_persistence: None, rng_seed: seed, ..base }
-}
-
 /// Runs `test` on `cases` values of `strategy`; a failure panics with the
 /// shrunk input.
 fn check<S: Strategy>(cases: u32, strategy: S, test: impl Fn(S::Value) -> Result<(), TestCaseError>)
 where
     S::Value: std::fmt::Debug,
 {
-    let mut runner = TestRunner::new(config(cases));
+    let mut runner = TestRunner::new(common::config(cases));
     if let Err(e) = runner.run(&strategy, test) {
         panic!("{e}");
     }
@@ -174,19 +168,65 @@ fn machine(lower: f64, ratio: f64, offset: f64, platform: f64) -> (Geometry<f64>
     (geometry, limits, mid)
 }
 
+/// Bisection steps that bring a refused draw to the last accepted pose on
+/// its way from the neutral pose (2^-40 of the offsets).
+const BOUNDARY_STEPS: usize = 40;
+/// Offsets (rad) from the neutral angle, all three joints alike, of the
+/// symmetric poses a refused draw starts its bisection from: the neutral
+/// pose first.
+const ANCHORS: [f64; 9] = [0.0, 0.25, -0.25, 0.5, -0.5, 0.75, -0.75, 1.0, -1.0];
+
+/// Whether the guarded f64 core accepts `theta` with every arm on the
+/// elbow-out branch; the platform position when it does.
+fn accepted(robot: &Robot<f64>, g: &Geometry<f64>, theta: [f64; 3]) -> Option<[f64; 3]> {
+    let position = robot.forward(theta).ok()?.position;
+    // Guarded FK also accepts elbow-in arms when the joint range reaches
+    // them; inverse kinematics never returns those.
+    reference::is_elbow_out(g, theta, position).then_some(position)
+}
+
+/// A valid case from the drawn numbers, by construction: the drawn pose
+/// when the guards accept it, else the last accepted pose on the straight
+/// joint-space path from the neutral pose to it (a pose at the limit of
+/// whichever guard refused the draw). `None` only when every one of the
+/// [`ANCHORS`] is refused too.
+fn case_from(lower: f64, ratio: f64, offset: f64, platform: f64, u: [f64; 3]) -> Option<Case> {
+    let (geometry, limits, mid) = machine(lower, ratio, offset, platform);
+    let robot = Robot::new(geometry, limits).ok()?;
+    let at = |s: f64| u.map(|v| mid + s * v);
+    if let Some(position) = accepted(&robot, &geometry, at(1.0)) {
+        return Some(Case { geometry, limits, theta: at(1.0), position });
+    }
+    // The start: the neutral pose, or the first accepted of the symmetric
+    // poses beside it (the neutral pose of a machine whose mid-range angle
+    // puts the rod across the elbow's travel is serial-singular).
+    let (anchor, mut position) = ANCHORS.iter().find_map(|&k| {
+        let t = [mid + k; 3];
+        accepted(&robot, &geometry, t).map(|p| (t, p))
+    })?;
+    let drawn = at(1.0);
+    let between = |s: f64| [0, 1, 2].map(|i| anchor[i] + s * (drawn[i] - anchor[i]));
+    let (mut inside, mut outside) = (0.0, 1.0);
+    for _ in 0..BOUNDARY_STEPS {
+        let s = 0.5 * (inside + outside);
+        match accepted(&robot, &geometry, between(s)) {
+            Some(p) => (inside, position) = (s, p),
+            None => outside = s,
+        }
+    }
+    Some(Case { geometry, limits, theta: between(inside), position })
+}
+
+/// Fractions of the drawn radius offset tried in turn: about one machine
+/// in a hundred of the family (a large offset on a short lower arm) has
+/// no guarded pose near its neutral one (its rods cross the elbows'
+/// travel there); it gives way to the same machine with a smaller offset.
+const OFFSET_FALLBACKS: [f64; 5] = [1.0, 0.75, 0.5, 0.25, 0.0];
+
 fn cases() -> impl Strategy<Value = Case> {
     let params = (200.0..2000.0_f64, 1.5..3.5_f64, 0.0..1.2_f64, 0.02..0.6_f64, prop::array::uniform3(-1.0..1.0_f64));
-    params.prop_filter_map("pose refused by the guarded core", |(lower, ratio, offset, platform, u)| {
-        let (geometry, limits, mid) = machine(lower, ratio, offset, platform);
-        let robot = Robot::new(geometry, limits).ok()?;
-        let theta = u.map(|v| mid + v);
-        let position = robot.forward(theta).ok()?.position;
-        // Guarded FK also accepts elbow-in arms when the joint range
-        // reaches them; inverse kinematics never returns those.
-        if !reference::is_elbow_out(&geometry, theta, position) {
-            return None;
-        }
-        Some(Case { geometry, limits, theta, position })
+    params.prop_filter_map("no guarded pose even at offset 0", |(lower, ratio, offset, platform, u)| {
+        OFFSET_FALLBACKS.iter().find_map(|&k| case_from(lower, ratio, k * offset, platform, u))
     })
 }
 

@@ -52,10 +52,21 @@
 //! * Q18.14 API length: 6.1e-5 mm = 0.061 um; its range +-131 m covers
 //!   positions, velocities to 131 m/s and torques to 131 N*m.
 //! * Measured worst case against the independent f64 reference (host
-//!   tests, `host-tests/tests/fixed_point.rs`, lower arms 200-2000 mm,
-//!   9915 guarded poses of 25 geometries plus random ones): joint angle
-//!   1.04 urad, platform position 3.55 um (at the 2000 mm arm; the error
-//!   in lower-arm units is below 1.8e-6, so it scales with the arm).
+//!   tests, `host-tests/tests/fixed_point.rs`, 20,000 random machines and
+//!   guarded poses at and between the corners of the envelope, both
+//!   margins at least 0.1), for the dimensions as the robot holds them:
+//!   joint angle 3.1 urad (bound 5 urad); platform position 4.4e-6 lower
+//!   arms (147 LSBs; bound 8e-6 lower arms, so the 5 um target holds up to
+//!   a 625 mm lower arm and 4000 mm arms get 32 um). The position error is
+//!   constant in lower-arm units and largest at the corner of the shortest
+//!   upper arm with the widest base at a parallel margin of 0.1, where the
+//!   platform lies close to the plane of the sphere centres and the
+//!   intersection amplifies the centres' rounding about 26 times.
+//! * Dimensions are held in Q18.14 (61 nm): a dimension given to finer
+//!   precision is rounded by up to 31 nm, which on a small machine at a
+//!   low serial margin turns a joint by more than the bound (13 urad on a
+//!   50 mm arm with a 10 mm upper arm at margin 0.1). That is a different
+//!   machine, not an arithmetic error: give dimensions the robot can hold.
 //!
 //! # Cost on a Cortex-M0 (no FPU, 32 x 32 -> 32 bit multiply, no divide)
 //! No operation here calls the 64-bit library multiply or divide:

@@ -1,5 +1,8 @@
 //! Shared by the property-test files: case counts and runner settings.
 
+// Each test file uses what it needs of this.
+#![allow(dead_code)]
+
 use proptest::test_runner::{Config, RngSeed};
 
 /// Seed used unless `PROPTEST_RNG_SEED` names another.
