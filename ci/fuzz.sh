@@ -3,8 +3,9 @@
 #   bash ci/fuzz.sh [SECONDS]    default 60
 # Installs cargo-fuzz when missing. cargo fuzz wants nightly features; on a
 # stable toolchain RUSTC_BOOTSTRAP=1 unlocks them. The sanitizer is off: the
-# core has no unsafe code, and what we look for are panics and non-finite
-# accepted results (asserted in the target).
+# core has no unsafe code, and what we look for are panics, non-finite
+# accepted results and broken setpoint contracts (asserted in the target
+# with host-tests/src/contract.rs).
 set -euo pipefail
 cd "$(dirname "$0")/.."
 secs="${1:-60}"
