@@ -471,7 +471,10 @@ mod tests {
         // 2 rad of joint offset: a value in degrees read as radians would look like this.
         let text = format!("{DEMO_ROBOT_TOML}\n[arm_corrections]\njoint_offset_deg = [0.0, 0.0, 114.6]\n");
         let err = RobotFile::parse(&text).unwrap().robot::<f64>().unwrap_err();
-        assert_eq!(err.to_string(), "robot file: invalid arm 2 joint zero offset: the correction exceeds its admitted range");
+        assert_eq!(
+            err.to_string(),
+            "robot file: invalid arm 2 joint zero offset: the correction exceeds its admitted range"
+        );
     }
 
     #[test]
