@@ -339,15 +339,7 @@ impl RobotFile {
     /// number is not representable in `S`.
     #[must_use]
     pub fn corrections_as_held<S: Real>(&self) -> Option<[ArmCorrection<f64>; 3]> {
-        let c = corrections_in::<S>(&self.corrections_f64())?;
-        Some(c.map(|c| ArmCorrection {
-            joint_offset: c.joint_offset.to_f64(),
-            upper_arm: c.upper_arm.to_f64(),
-            lower_arm: c.lower_arm.to_f64(),
-            radial_difference: c.radial_difference.to_f64(),
-            azimuth: c.azimuth.to_f64(),
-            axis_height: c.axis_height.to_f64(),
-        }))
+        Some(corrections_to_f64(&corrections_in::<S>(&self.corrections_f64())?))
     }
 
     /// Builds the robot in scalar type `S`, converting every number from
@@ -403,6 +395,20 @@ fn corrections_in<S: Real>(c: &[ArmCorrection<f64>; 3]) -> Option<[ArmCorrection
         })
     };
     Some([one(&c[0])?, one(&c[1])?, one(&c[2])?])
+}
+
+/// Per-arm corrections held in the number type `S`, back in f64 (each
+/// value exactly as `S` holds it).
+#[must_use]
+pub fn corrections_to_f64<S: Real>(c: &[ArmCorrection<S>; 3]) -> [ArmCorrection<f64>; 3] {
+    c.map(|c| ArmCorrection {
+        joint_offset: c.joint_offset.to_f64(),
+        upper_arm: c.upper_arm.to_f64(),
+        lower_arm: c.lower_arm.to_f64(),
+        radial_difference: c.radial_difference.to_f64(),
+        azimuth: c.azimuth.to_f64(),
+        axis_height: c.axis_height.to_f64(),
+    })
 }
 
 #[cfg(test)]

@@ -207,17 +207,6 @@ fn corrections_in<S: Real>(c: &[ArmCorrection<f64>; 3]) -> [ArmCorrection<S>; 3]
     })
 }
 
-fn corrections_back<S: Real>(c: &[ArmCorrection<S>; 3]) -> [ArmCorrection<f64>; 3] {
-    c.map(|c| ArmCorrection {
-        joint_offset: c.joint_offset.to_f64(),
-        upper_arm: c.upper_arm.to_f64(),
-        lower_arm: c.lower_arm.to_f64(),
-        radial_difference: c.radial_difference.to_f64(),
-        azimuth: c.azimuth.to_f64(),
-        axis_height: c.axis_height.to_f64(),
-    })
-}
-
 fn limits_in<S: Real>(l: &Limits<f64>) -> Limits<S> {
     let s = |v: f64| S::from_f64(v).expect("representable");
     Limits {
@@ -238,7 +227,7 @@ fn robot_in<S: Real>(
 ) -> Result<(Robot<S>, PerArmMachine), Error> {
     let (gs, cs) = (geometry_in::<S>(g), corrections_in::<S>(c));
     let robot = Robot::with_corrections(gs, cs, limits_in::<S>(l))?;
-    Ok((robot, PerArmMachine::new(&geometry_back(&gs), &corrections_back(&cs))))
+    Ok((robot, PerArmMachine::new(&geometry_back(&gs), &deltakin_harness::config::corrections_to_f64(&cs))))
 }
 
 /// `S`'s per-arm robot against the reference on `S`'s own inputs: the
