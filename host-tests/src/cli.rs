@@ -26,6 +26,8 @@ use crate::volume::{self, VolumeFigures, VolumeGrid};
 
 /// Exit status when `report` finds an enforced gate broken.
 pub const EXIT_GATE_FAILED: u8 = 1;
+/// Exit status when `calibrate` finds the fit poor or ill-conditioned.
+pub const EXIT_POOR_FIT: u8 = 1;
 /// Exit status for usage and configuration problems.
 pub const EXIT_USAGE: u8 = 2;
 
@@ -117,7 +119,58 @@ pub enum Command {
     /// examples/demo_moves.toml.
     #[command(after_help = "Example:\n  deltakin plan --moves examples/demo_moves.toml --rate-hz 4000 > setpoints.csv")]
     Plan(PlanArgs),
+    /// Calibrate a built machine from measured points, or suggest the
+    /// poses to measure.
+    ///
+    /// Measurements (CSV): theta0_deg,theta1_deg,theta2_deg,x_mm,y_mm,z_mm
+    /// (encoder readings before any offset; the position in an instrument
+    /// frame whose pose is identified too), or without x_mm,y_mm for probe
+    /// mode (z touched on a flat plate of unknown height and tilt). Prints
+    /// residuals before and after, each parameter with its standard
+    /// deviation, the combinations held at nominal, the observability
+    /// index and a verdict. With --suggest-poses N: N joint poses inside
+    /// the guarded workspace as CSV theta0_deg,theta1_deg,theta2_deg.
+    /// Exit status: 0 accepted, 1 poor fit or ill-conditioned, 2 usage or
+    /// input problem (bad rows by line number, too few rows).
+    #[command(after_help = "Example:\n  deltakin calibrate --robot examples/demo_robot.toml \
+                            --measurements examples/demo_measurements.csv --out calibrated.toml")]
+    Calibrate(CalibrateArgs),
 }
+
+/// Options of `calibrate`.
+#[derive(Debug, Args)]
+pub struct CalibrateArgs {
+    /// Nominal robot file (TOML); the built-in demo robot when omitted.
+    #[arg(long, value_name = "FILE")]
+    pub robot: Option<PathBuf>,
+    /// Measurement CSV.
+    #[arg(long, value_name = "FILE", required_unless_present = "suggest_poses")]
+    pub measurements: Option<PathBuf>,
+    /// Stated instrument noise (mm, standard deviation per component).
+    #[arg(long, value_name = "MM", default_value_t = DEFAULT_NOISE_MM)]
+    pub noise_mm: f64,
+    /// Write the calibrated robot file (with [arm_corrections]) to FILE.
+    #[arg(long, value_name = "FILE")]
+    pub out: Option<PathBuf>,
+    /// Write every figure as JSON to FILE.
+    #[arg(long, value_name = "FILE")]
+    pub json: Option<PathBuf>,
+    /// Write the residuals per point, before and after, as SVG to FILE.
+    #[arg(long, value_name = "FILE")]
+    pub plot: Option<PathBuf>,
+    /// List the residual of every point.
+    #[arg(long)]
+    pub per_point: bool,
+    /// Print N suggested poses (CSV) instead of calibrating.
+    #[arg(long, value_name = "N", conflicts_with = "measurements")]
+    pub suggest_poses: Option<usize>,
+    /// With --suggest-poses: choose them for probe mode (z only).
+    #[arg(long, requires = "suggest_poses")]
+    pub probe: bool,
+}
+
+/// Default of `calibrate --noise-mm`.
+pub const DEFAULT_NOISE_MM: f64 = 0.02;
 
 /// Options of `ik` and `fk`.
 #[derive(Debug, Args)]
@@ -520,6 +573,47 @@ fn run_report(args: &ReportArgs) -> Result<ExitCode, Failure> {
     Ok(if passed { ExitCode::SUCCESS } else { ExitCode::from(EXIT_GATE_FAILED) })
 }
 
+fn run_calibrate(args: &CalibrateArgs) -> Result<ExitCode, Failure> {
+    use crate::calibrate::{fit, measurements, model::Mode, output, plot, poses};
+    let robot = load_robot(args.robot.as_deref())?;
+    if let Some(n) = args.suggest_poses {
+        let mode = if args.probe { Mode::Probe } else { Mode::Position };
+        let joints = poses::suggest_for(&robot, mode, n)?;
+        let mut out = String::from("theta0_deg,theta1_deg,theta2_deg\n");
+        for j in joints {
+            let d = j.map(f64::to_degrees);
+            out += &format!("{:?},{:?},{:?}\n", d[0], d[1], d[2]);
+        }
+        print!("{out}");
+        return Ok(ExitCode::SUCCESS);
+    }
+    if !(args.noise_mm.is_finite() && args.noise_mm > 0.0) {
+        return Err(Failure(format!("--noise-mm {}: must be a positive number of millimetres", args.noise_mm)));
+    }
+    let path = args.measurements.as_deref().ok_or_else(|| Failure("--measurements FILE is required".into()))?;
+    let text = std::fs::read_to_string(path).map_err(|e| Failure(format!("{}: {e}", path.display())))?;
+    let (mode, points) = measurements::parse(&text).map_err(|e| Failure(format!("{}: {e}", path.display())))?;
+    let fit = fit::fit_robot(&robot, mode, &points).map_err(|e| Failure(format!("{}: {e}", path.display())))?;
+    print!("{}", output::text(&fit, args.noise_mm, args.per_point));
+    if let Some(out) = &args.out {
+        let original = match &args.robot {
+            Some(p) => std::fs::read_to_string(p).map_err(|e| Failure(format!("{}: {e}", p.display())))?,
+            None => crate::config::DEMO_ROBOT_TOML.to_owned(),
+        };
+        let calibrated = output::calibrated_robot(&original, &fit).map_err(Failure)?;
+        std::fs::write(out, calibrated).map_err(|e| Failure(format!("{}: {e}", out.display())))?;
+    }
+    if let Some(j) = &args.json {
+        let text =
+            serde_json::to_string_pretty(&output::json(&fit, args.noise_mm)).map_err(|e| Failure(e.to_string()))?;
+        std::fs::write(j, text).map_err(|e| Failure(format!("{}: {e}", j.display())))?;
+    }
+    if let Some(p) = &args.plot {
+        plot::residuals(p, &fit, args.noise_mm).map_err(|e| Failure(format!("{}: {e}", p.display())))?;
+    }
+    Ok(if fit.accepted(args.noise_mm) { ExitCode::SUCCESS } else { ExitCode::from(EXIT_POOR_FIT) })
+}
+
 /// Runs the parsed command line.
 #[must_use]
 pub fn run(cli: &Cli) -> ExitCode {
@@ -528,6 +622,7 @@ pub fn run(cli: &Cli) -> ExitCode {
         Command::Fk(args) => run_batch(args, Direction::Forward),
         Command::Report(args) => run_report(args),
         Command::Plan(args) => run_plan(args),
+        Command::Calibrate(args) => run_calibrate(args),
     };
     result.unwrap_or_else(|Failure(message)| {
         eprintln!("deltakin: {message}");

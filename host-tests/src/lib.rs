@@ -2,6 +2,7 @@
 //! reference, workspace sweeps, the cross-check report and the CLI. std only.
 
 pub mod bounds;
+pub mod calibrate;
 pub mod cli;
 pub mod config;
 pub mod contract;
