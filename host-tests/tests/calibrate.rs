@@ -7,11 +7,12 @@
 
 use deltakin::{ArmCorrection, Robot};
 use deltakin_harness::calibrate::fit::{Fit, fit, fit_robot};
+use deltakin_harness::calibrate::identify::hold_constraints;
 use deltakin_harness::calibrate::model::{self, ARM_PARAMETERS, Mode, Model, Point, arm_vector};
 use deltakin_harness::calibrate::{jacobian, measurements, poses};
 use deltakin_harness::config::RobotFile;
 use deltakin_harness::reference::{self, PerArmMachine};
-use nalgebra::{Matrix3, Vector3};
+use nalgebra::{DMatrix, DVector, Matrix3, Vector3};
 
 /// Instrument noise of the synthetic measurements (mm, per component).
 const NOISE_MM: f64 = 0.02;
@@ -138,17 +139,15 @@ fn suggested(mode: Mode, n: usize) -> Vec<[f64; 3]> {
 /// (the fit's own convention), in physical units.
 fn expected(fit: &Fit, truth: &[ArmCorrection<f64>; 3]) -> Vec<f64> {
     let scales = &fit.model.scales;
-    let mut x: Vec<f64> = arm_vector(truth).iter().zip(scales).map(|(v, s)| v / s).collect();
-    for v in &fit.start_identifiability.unidentifiable {
-        let arm = &v[..ARM_PARAMETERS];
-        let norm2: f64 = arm.iter().map(|a| a * a).sum();
-        if norm2 < 1e-6 {
-            continue;
-        }
-        let along: f64 = arm.iter().zip(&x).map(|(a, b)| a * b).sum::<f64>() / norm2;
-        x.iter_mut().zip(arm).for_each(|(xi, a)| *xi -= along * a);
-    }
-    x.iter().zip(scales).map(|(v, s)| v * s).collect()
+    let x: Vec<f64> = arm_vector(truth).iter().zip(scales).map(|(v, s)| v / s).collect();
+    let null = &fit.start_identifiability.unidentifiable;
+    let c = hold_constraints(null);
+    let k = null.len();
+    // Find alpha with C (x + sum alpha_k v_k)_arm = 0.
+    let a = DMatrix::from_fn(k, k, |r, q| (0..ARM_PARAMETERS).map(|i| c[(r, i)] * null[q][i]).sum::<f64>());
+    let b = DVector::from_fn(k, |r, _| -(0..ARM_PARAMETERS).map(|i| c[(r, i)] * x[i]).sum::<f64>());
+    let alpha = a.lu().solve(&b).unwrap_or_else(|| DVector::zeros(k));
+    (0..ARM_PARAMETERS).map(|i| (x[i] + (0..k).map(|q| alpha[q] * null[q][i]).sum::<f64>()) * scales[i]).collect()
 }
 
 /// RMS prediction error (mm) of the machine `params` at `joints` against
@@ -421,4 +420,122 @@ fn regenerate() {
     let pts = measure(&scipy_truth, &frame, &joints, NOISE_MM, &mut rng);
     std::fs::write(root.join("ci/fixtures/calibrate_synthetic.csv"), measurements::write(Mode::Position, &pts))
         .expect("write");
+}
+
+// --- the command line -------------------------------------------------
+
+fn root() -> std::path::PathBuf {
+    std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("..")
+}
+
+fn deltakin(args: &[&str]) -> std::process::Output {
+    std::process::Command::new(env!("CARGO_BIN_EXE_deltakin")).args(args).output().expect("run deltakin")
+}
+
+fn tmp(name: &str) -> std::path::PathBuf {
+    let dir = std::env::temp_dir().join(format!("deltakin-calibrate-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).expect("temp dir");
+    dir.join(name)
+}
+
+#[test]
+fn cli_demo_is_accepted_and_its_output_loads() {
+    let robot = root().join("examples/demo_robot.toml");
+    let meas = root().join("examples/demo_measurements.csv");
+    let (out_robot, json) = (tmp("calibrated.toml"), tmp("cal.json"));
+    let out = deltakin(&[
+        "calibrate",
+        "--robot",
+        robot.to_str().unwrap(),
+        "--measurements",
+        meas.to_str().unwrap(),
+        "--out",
+        out_robot.to_str().unwrap(),
+        "--json",
+        json.to_str().unwrap(),
+        "--per-point",
+    ]);
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert_eq!(out.status.code(), Some(0), "{text}\n{}", String::from_utf8_lossy(&out.stderr));
+    assert!(
+        text.contains("ACCEPTED") && text.contains("arm 0 azimuth") && text.contains("observability index"),
+        "{text}"
+    );
+    let file = RobotFile::load(Some(&out_robot)).expect("calibrated file parses");
+    let _: Robot<f32> = file.robot().expect("Robot::new accepts it");
+    let _: Robot<f64> = file.robot().expect("f64 too");
+    // Its corrections are the demo's truth, within a few std devs (as fitted).
+    let j: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(&json).expect("json")).expect("json parses");
+    assert_eq!(j["accepted"], true);
+    // fk accepts the calibrated file.
+    let fk = std::process::Command::new(env!("CARGO_BIN_EXE_deltakin"))
+        .args(["fk", "--robot", out_robot.to_str().unwrap()])
+        .stdin(std::process::Stdio::piped())
+        .stdout(std::process::Stdio::piped())
+        .spawn()
+        .and_then(|mut c| {
+            use std::io::Write;
+            c.stdin.take().expect("stdin").write_all(b"theta0_deg,theta1_deg,theta2_deg\n20,25,30\n")?;
+            c.wait_with_output()
+        })
+        .expect("fk");
+    assert!(String::from_utf8_lossy(&fk.stdout).contains(",ok"), "{}", String::from_utf8_lossy(&fk.stdout));
+}
+
+#[test]
+fn cli_poor_fit_exits_1() {
+    let robot = root().join("examples/demo_robot.toml");
+    let meas = root().join("examples/demo_measurements.csv");
+    // The same data with the noise understated tenfold: poor.
+    let out = deltakin(&[
+        "calibrate",
+        "--robot",
+        robot.to_str().unwrap(),
+        "--measurements",
+        meas.to_str().unwrap(),
+        "--noise-mm",
+        "0.002",
+    ]);
+    assert_eq!(out.status.code(), Some(1), "{}", String::from_utf8_lossy(&out.stdout));
+    assert!(String::from_utf8_lossy(&out.stdout).contains("POOR"));
+}
+
+#[test]
+fn cli_input_problems_exit_2_with_line_numbers() {
+    let text = std::fs::read_to_string(root().join("examples/demo_measurements.csv")).expect("demo");
+    let mut lines: Vec<String> = text.lines().map(str::to_owned).collect();
+    lines[4] = "1,2,three,4,5,6".into();
+    lines[7] = "1,2,3".into();
+    let bad = tmp("bad.csv");
+    std::fs::write(&bad, lines.join("\n")).expect("write");
+    let out = deltakin(&["calibrate", "--measurements", bad.to_str().unwrap()]);
+    assert_eq!(out.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.contains("line(s) 5, 8"), "{err}");
+    let few = tmp("few.csv");
+    std::fs::write(&few, text.lines().take(5).collect::<Vec<_>>().join("\n")).expect("write");
+    let out = deltakin(&["calibrate", "--measurements", few.to_str().unwrap()]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("at least 9"), "{}", String::from_utf8_lossy(&out.stderr));
+    assert_eq!(deltakin(&["calibrate"]).status.code(), Some(2));
+}
+
+#[test]
+fn cli_suggests_guarded_poses() {
+    const N: usize = 12;
+    let out = deltakin(&["calibrate", "--suggest-poses", &N.to_string()]);
+    assert_eq!(out.status.code(), Some(0));
+    let text = String::from_utf8_lossy(&out.stdout);
+    let mut lines = text.lines();
+    assert_eq!(lines.next(), Some("theta0_deg,theta1_deg,theta2_deg"));
+    let robot = nominal_robot();
+    let rows: Vec<[f64; 3]> = lines
+        .map(|l| {
+            let v: Vec<f64> = l.split(',').map(|s| s.parse::<f64>().expect("number")).collect();
+            [v[0], v[1], v[2]].map(f64::to_radians)
+        })
+        .collect();
+    assert_eq!(rows.len(), N);
+    assert!(rows.iter().all(|j| robot.forward(*j).is_ok()));
 }

@@ -72,12 +72,51 @@ pub fn analyse(j: &DMatrix<f64>) -> Identifiability {
     if singular_values.len() < n {
         unidentifiable.extend(null_complement(&v_t, n));
     }
+    let unidentifiable = simplest_basis(unidentifiable);
     let observability = observability_of(&kept, j.nrows());
     let condition = match (kept.first(), kept.last()) {
         (Some(a), Some(b)) if *b > 0.0 => a / b,
         _ => f64::INFINITY,
     };
     Identifiability { singular_values, unidentifiable, observability, condition }
+}
+
+/// The same subspace in reduced row echelon form (Gauss-Jordan, columns
+/// in parameter order, rows then normalised): the SVD returns an arbitrary
+/// basis of a repeated (zero) singular value, mixing e.g. the azimuth
+/// trade with the axis-height trade; the echelon form separates them so
+/// each can be named.
+fn simplest_basis(mut rows: Vec<Vec<f64>>) -> Vec<Vec<f64>> {
+    const PIVOT_MIN: f64 = 1e-3;
+    let n = rows.first().map_or(0, Vec::len);
+    let mut r = 0;
+    for c in 0..n {
+        if r == rows.len() {
+            break;
+        }
+        let Some(p) = (r..rows.len()).max_by(|a, b| rows[*a][c].abs().total_cmp(&rows[*b][c].abs())) else { break };
+        if rows[p][c].abs() < PIVOT_MIN {
+            continue;
+        }
+        rows.swap(r, p);
+        let pivot = rows[r][c];
+        rows[r].iter_mut().for_each(|x| *x /= pivot);
+        for k in 0..rows.len() {
+            if k != r {
+                let f = rows[k][c];
+                let pr = rows[r].clone();
+                rows[k].iter_mut().zip(&pr).for_each(|(x, y)| *x -= f * y);
+            }
+        }
+        r += 1;
+    }
+    for row in &mut rows {
+        let norm = row.iter().map(|x| x * x).sum::<f64>().sqrt();
+        if norm > 0.0 {
+            row.iter_mut().for_each(|x| *x /= norm);
+        }
+    }
+    rows
 }
 
 /// O1 of singular values `s` of a Jacobian with `m` rows.
