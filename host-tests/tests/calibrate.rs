@@ -539,3 +539,29 @@ fn cli_suggests_guarded_poses() {
     assert_eq!(rows.len(), N);
     assert!(rows.iter().all(|j| robot.forward(*j).is_ok()));
 }
+
+/// Agreement with the scipy fixture (mm or deg): both solve the same
+/// least-squares problem to convergence, so they differ by the solvers'
+/// stopping tolerances only, far below the parameters' std devs (~0.01).
+const SCIPY_TOL: f64 = 1e-4;
+
+/// Outside source: scipy.optimize.least_squares (trust-region reflective)
+/// on ci/fixtures/calibrate_synthetic.csv with its own model
+/// (ci/fixtures/calibrate_scipy.py, run once; the JSON is committed).
+#[test]
+fn matches_scipy_least_squares_on_a_synthetic_case() {
+    let text = std::fs::read_to_string(root().join("ci/fixtures/calibrate_synthetic.csv")).expect("fixture");
+    let (mode, pts) = measurements::parse(&text).expect("parses");
+    let f = fit_robot(&demo(), mode, &pts).expect("fit");
+    let j: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(root().join("ci/fixtures/calibrate_scipy.json")).expect("json"))
+            .expect("json");
+    for k in 0..ARM_PARAMETERS {
+        let name = model::name(mode, k);
+        let theirs = j["parameters"][&name].as_f64().expect("parameter in fixture");
+        let ours = model::printed(mode, k, f.params[k]);
+        assert!((ours - theirs).abs() <= SCIPY_TOL, "{name}: deltakin {ours}, scipy {theirs}");
+    }
+    let rms = j["rms_mm"].as_f64().expect("rms");
+    assert!((f.rms_after() - rms).abs() <= SCIPY_TOL, "rms {} vs {rms}", f.rms_after());
+}

@@ -13,6 +13,9 @@ const BEFORE: RGBColor = RGBColor(230, 97, 1);
 /// Colour of the residuals after the fit (purple).
 const AFTER: RGBColor = RGBColor(94, 60, 153);
 
+/// Factor above the largest residual that leaves room for the legend.
+const LEGEND_HEADROOM: f64 = 6.0;
+
 /// Writes the plot to `path`.
 ///
 /// # Errors
@@ -20,7 +23,7 @@ const AFTER: RGBColor = RGBColor(94, 60, 153);
 pub fn residuals(path: &Path, fit: &Fit, noise_mm: f64) -> Result<(), String> {
     let before = model::per_point(fit.mode, &fit.before);
     let after = model::per_point(fit.mode, &fit.after);
-    let top = before.iter().chain(&after).copied().fold(noise_mm, f64::max) * 1.1;
+    let top = before.iter().chain(&after).copied().fold(noise_mm, f64::max) * LEGEND_HEADROOM;
     let (lo, hi) = (top * 1e-4_f64.max(after.iter().copied().fold(f64::INFINITY, f64::min) / top / 2.0), top);
     let root = SVGBackend::new(path, (900, 500)).into_drawing_area();
     root.fill(&WHITE).map_err(|e| e.to_string())?;
@@ -35,7 +38,8 @@ pub fn residuals(path: &Path, fit: &Fit, noise_mm: f64) -> Result<(), String> {
     chart
         .configure_mesh()
         .x_desc("measured point")
-        .y_desc("residual (mm, log scale)")
+        .x_label_formatter(&|x| format!("{x:.0}"))
+        .y_desc("residual length per point (mm, log scale)")
         .label_style(("sans-serif", 15))
         .draw()
         .map_err(|e| e.to_string())?;
@@ -52,7 +56,7 @@ pub fn residuals(path: &Path, fit: &Fit, noise_mm: f64) -> Result<(), String> {
     chart
         .draw_series(LineSeries::new([(0.5, noise_mm), (n as f64 + 0.5, noise_mm)], BLACK.stroke_width(1)))
         .map_err(|e| e.to_string())?
-        .label("stated instrument noise")
+        .label("stated instrument noise (per component)")
         .legend(|(x, y)| PathElement::new([(x - 10, y), (x + 10, y)], BLACK));
     chart
         .configure_series_labels()
