@@ -565,3 +565,36 @@ fn matches_scipy_least_squares_on_a_synthetic_case() {
     let rms = j["rms_mm"].as_f64().expect("rms");
     assert!((f.rms_after() - rms).abs() <= SCIPY_TOL, "rms {} vs {rms}", f.rms_after());
 }
+
+/// The shipped demo: its figures (printed with --nocapture) and the same
+/// acceptance as the synthetic machines.
+#[test]
+fn demo_measurements_recover_the_demo_truth() {
+    let text = std::fs::read_to_string(root().join("examples/demo_measurements.csv")).expect("demo");
+    let (mode, pts) = measurements::parse(&text).expect("parses");
+    let f = fit_robot(&demo(), mode, &pts).expect("fit");
+    let frame = random_frame(&mut poses::Rng::new(2026));
+    let truth = PerArmMachine::new(&demo().geometry_f64(), &demo_truth());
+    let unseen = poses::candidates(&nominal_robot(), 3 * UNSEEN, &mut poses::Rng::new(77));
+    let unseen = &unseen[..UNSEEN];
+    let calibrated = prediction_rms(&f, &f.params, &truth, &frame, unseen);
+    let nominal = prediction_rms(&f, &f.start, &truth, &frame, unseen);
+    let want = expected(&f, &demo_truth());
+    println!("demo: unseen-pose prediction RMS nominal {nominal:.4} mm, calibrated {calibrated:.4} mm");
+    println!("demo: chi-square {:.1} on {} dof, z {:.2}", f.chi_square(NOISE_MM), f.dof(), chi_square_z(&f));
+    for k in 0..ARM_PARAMETERS {
+        println!(
+            "demo: {:<28} fitted {:+.4} true (held convention) {:+.4} std dev {:.4}",
+            model::name(mode, k),
+            model::printed(mode, k, f.params[k]),
+            model::printed(mode, k, want[k]),
+            model::printed(mode, k, f.std_dev[k])
+        );
+        assert!((f.params[k] - want[k]).abs() <= SIGMAS * f.std_dev[k], "{}", model::name(mode, k));
+    }
+    assert!(chi_square_z(&f).abs() <= CHI_SQUARE_Z);
+    assert!(
+        calibrated <= PREDICTION_NOISE_FACTOR * NOISE_MM && nominal >= NOMINAL_AT_LEAST_MM,
+        "{calibrated} {nominal}"
+    );
+}
