@@ -5,6 +5,9 @@
 //! input with `cargo test -p deltakin-harness --release --test calibrate
 //! -- --ignored regenerate` (deterministic seeds).
 
+// Parameters are indexed in parallel arrays (fitted, expected, std dev).
+#![allow(clippy::needless_range_loop)]
+
 use deltakin::{ArmCorrection, Robot};
 use deltakin_harness::calibrate::fit::{Fit, fit, fit_robot};
 use deltakin_harness::calibrate::identify::hold_constraints;
@@ -347,6 +350,12 @@ fn probe_mode_fits_the_heights_it_sees() {
     let z = chi_square_z(&f);
     assert!(z.abs() <= CHI_SQUARE_Z, "chi-square z {z}");
     let want = expected(&f, &truth_c);
+    println!(
+        "probe std devs {:?}",
+        (0..ARM_PARAMETERS)
+            .map(|k| format!("{} {:.4}", model::name(f.mode, k), model::printed(f.mode, k, f.std_dev[k])))
+            .collect::<Vec<_>>()
+    );
     for k in 0..ARM_PARAMETERS {
         if f.std_dev[k] > 0.0 && f.std_dev[k].is_finite() {
             assert!((f.params[k] - want[k]).abs() <= SIGMAS * f.std_dev[k] + 1e-9, "{}", model::name(f.mode, k));

@@ -113,7 +113,7 @@ impl Fit {
     /// Whether the identifiable subspace is ill-conditioned.
     #[must_use]
     pub fn ill_conditioned(&self) -> bool {
-        !(self.identifiability.condition < identify::ILL_CONDITIONED)
+        self.identifiability.condition.is_nan() || self.identifiability.condition >= identify::ILL_CONDITIONED
     }
 }
 

@@ -120,7 +120,7 @@ pub fn suggest(model: &Model, params: &[f64], candidates: &[[f64; 3]], n: usize)
 }
 
 /// Seed of the candidate draw of `deltakin calibrate --suggest-poses`.
-pub const SUGGEST_SEED: u64 = 0x0D17_A_CA1B;
+pub const SUGGEST_SEED: u64 = 0x0000_D17A_CA1B;
 
 /// `n` suggested poses (joint readings, rad) for the machine of `robot`
 /// (its corrections included), measured in `mode`.
