@@ -95,6 +95,20 @@ fn random_frame(rng: &mut poses::Rng) -> (Matrix3<f64>, Vector3<f64>) {
     (r, Vector3::new(rng.range(-1000.0, 1000.0), rng.range(-1000.0, 1000.0), rng.range(-500.0, 500.0)))
 }
 
+/// Points at `joints` on the true machine, each seen through `see`
+/// (platform position, generator) -> measured components.
+fn measure_with(
+    truth: &PerArmMachine,
+    joints: &[[f64; 3]],
+    rng: &mut poses::Rng,
+    see: impl Fn([f64; 3], &mut poses::Rng) -> [f64; 3],
+) -> Vec<Point> {
+    joints
+        .iter()
+        .map(|j| Point { joints: *j, measured: see(reference::forward(truth, *j).expect("pose closes"), &mut *rng) })
+        .collect()
+}
+
 fn measure(
     truth: &PerArmMachine,
     frame: &(Matrix3<f64>, Vector3<f64>),
@@ -102,14 +116,10 @@ fn measure(
     noise: f64,
     rng: &mut poses::Rng,
 ) -> Vec<Point> {
-    joints
-        .iter()
-        .map(|j| {
-            let p = reference::forward(truth, *j).expect("pose closes on the true machine");
-            let q = frame.0 * Vector3::from(p) + frame.1;
-            Point { joints: *j, measured: [0, 1, 2].map(|k| q[k] + noise * rng.gauss()) }
-        })
-        .collect()
+    measure_with(truth, joints, rng, |p, rng| {
+        let q = frame.0 * Vector3::from(p) + frame.1;
+        [0, 1, 2].map(|k| q[k] + noise * rng.gauss())
+    })
 }
 
 fn probe_measure(
@@ -119,14 +129,9 @@ fn probe_measure(
     noise: f64,
     rng: &mut poses::Rng,
 ) -> Vec<Point> {
-    joints
-        .iter()
-        .map(|j| {
-            let p = reference::forward(truth, *j).expect("pose closes");
-            let z = p[2] + plate[0] + plate[1].tan() * p[0] + plate[2].tan() * p[1] + noise * rng.gauss();
-            Point { joints: *j, measured: [0.0, 0.0, z] }
-        })
-        .collect()
+    measure_with(truth, joints, rng, |p, rng| {
+        [0.0, 0.0, p[2] + plate[0] + plate[1].tan() * p[0] + plate[2].tan() * p[1] + noise * rng.gauss()]
+    })
 }
 
 fn nominal_robot() -> Robot<f64> {
