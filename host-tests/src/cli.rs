@@ -149,7 +149,7 @@ pub struct CalibrateArgs {
     /// Stated instrument noise (mm, standard deviation per component).
     #[arg(long, value_name = "MM", default_value_t = DEFAULT_NOISE_MM)]
     pub noise_mm: f64,
-    /// Write the calibrated robot file (with [arm_corrections]) to FILE.
+    /// Write the calibrated robot file (with an arm_corrections table) to FILE.
     #[arg(long, value_name = "FILE")]
     pub out: Option<PathBuf>,
     /// Write every figure as JSON to FILE.
