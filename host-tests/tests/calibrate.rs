@@ -45,35 +45,14 @@ fn demo() -> RobotFile {
     RobotFile::demo()
 }
 
-/// The demo's "as built" machine: true per-arm errors (mm, rad).
+/// The demo's "as built" machine: true per-arm errors (mm, rad), from the
+/// hand-written fixture `fixtures/demo_truth.toml` (an `[arm_corrections]`
+/// table, mm and deg), read through the robot file's own parser.
 fn demo_truth() -> [ArmCorrection<f64>; 3] {
-    let d = f64::to_radians;
-    [
-        ArmCorrection {
-            joint_offset: d(0.35),
-            upper_arm: 0.3,
-            lower_arm: -0.4,
-            radial_difference: 0.2,
-            azimuth: d(0.15),
-            axis_height: 0.5,
-        },
-        ArmCorrection {
-            joint_offset: d(-0.2),
-            upper_arm: -0.2,
-            lower_arm: 0.3,
-            radial_difference: -0.3,
-            azimuth: d(-0.1),
-            axis_height: -0.3,
-        },
-        ArmCorrection {
-            joint_offset: d(0.1),
-            upper_arm: 0.4,
-            lower_arm: 0.1,
-            radial_difference: 0.1,
-            azimuth: d(0.2),
-            axis_height: 0.2,
-        },
-    ]
+    let truth =
+        std::fs::read_to_string(root().join("host-tests/tests/fixtures/demo_truth.toml")).expect("truth fixture");
+    let text = format!("{}\n{truth}", deltakin_harness::config::DEMO_ROBOT_TOML);
+    RobotFile::parse(&text).expect("truth fixture parses").corrections_f64()
 }
 
 fn random_truth(rng: &mut poses::Rng) -> [ArmCorrection<f64>; 3] {
@@ -405,8 +384,8 @@ fn too_few_points_and_bad_rows_are_refused() {
     assert_eq!(err, measurements::MeasurementError::BadRows(vec![3, 5]));
 }
 
-/// Writes the demo measurement file (beside the demo robot), the demo's
-/// truth fixture and the scipy cross-check input.
+/// Writes the demo measurement file (beside the demo robot, from the
+/// truth fixture) and the scipy cross-check input.
 #[test]
 #[ignore = "regenerates committed fixtures"]
 fn regenerate() {
@@ -418,15 +397,6 @@ fn regenerate() {
     let pts = measure(&truth, &frame, &joints, NOISE_MM, &mut rng);
     std::fs::write(root.join("examples/demo_measurements.csv"), measurements::write(Mode::Position, &pts))
         .expect("write");
-    let mut truth_file =
-        String::from("# The demo machine's true per-arm errors (mm, deg): test fixture only.\n[arm_corrections]\n");
-    for (j, key) in model::ARM_PARAMETER_NAMES.iter().enumerate() {
-        let v: Vec<String> = (0..3)
-            .map(|i| format!("{:?}", model::printed(Mode::Position, 6 * i + j, arm_vector(&demo_truth())[6 * i + j])))
-            .collect();
-        truth_file += &format!("{key} = [{}]\n", v.join(", "));
-    }
-    std::fs::write(root.join("host-tests/tests/fixtures/demo_truth.toml"), truth_file).expect("write");
     let mut rng = poses::Rng::new(99);
     let t = random_truth(&mut rng);
     let scipy_truth = PerArmMachine::new(&demo().geometry_f64(), &t);
