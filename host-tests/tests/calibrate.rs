@@ -422,23 +422,19 @@ fn tmp(name: &str) -> std::path::PathBuf {
     dir.join(name)
 }
 
-#[test]
-fn cli_demo_is_accepted_and_its_output_loads() {
+/// `deltakin calibrate` on the demo robot and measurements, plus `extra`.
+fn calibrate_demo(extra: &[&str]) -> std::process::Output {
     let robot = root().join("examples/demo_robot.toml");
     let meas = root().join("examples/demo_measurements.csv");
+    let mut args = vec!["calibrate", "--robot", robot.to_str().unwrap(), "--measurements", meas.to_str().unwrap()];
+    args.extend_from_slice(extra);
+    deltakin(&args)
+}
+
+#[test]
+fn cli_demo_is_accepted_and_its_output_loads() {
     let (out_robot, json) = (tmp("calibrated.toml"), tmp("cal.json"));
-    let out = deltakin(&[
-        "calibrate",
-        "--robot",
-        robot.to_str().unwrap(),
-        "--measurements",
-        meas.to_str().unwrap(),
-        "--out",
-        out_robot.to_str().unwrap(),
-        "--json",
-        json.to_str().unwrap(),
-        "--per-point",
-    ]);
+    let out = calibrate_demo(&["--out", out_robot.to_str().unwrap(), "--json", json.to_str().unwrap(), "--per-point"]);
     let text = String::from_utf8_lossy(&out.stdout);
     assert_eq!(out.status.code(), Some(0), "{text}\n{}", String::from_utf8_lossy(&out.stderr));
     assert!(
@@ -469,18 +465,8 @@ fn cli_demo_is_accepted_and_its_output_loads() {
 
 #[test]
 fn cli_poor_fit_exits_1() {
-    let robot = root().join("examples/demo_robot.toml");
-    let meas = root().join("examples/demo_measurements.csv");
     // The same data with the noise understated tenfold: poor.
-    let out = deltakin(&[
-        "calibrate",
-        "--robot",
-        robot.to_str().unwrap(),
-        "--measurements",
-        meas.to_str().unwrap(),
-        "--noise-mm",
-        "0.002",
-    ]);
+    let out = calibrate_demo(&["--noise-mm", "0.002"]);
     assert_eq!(out.status.code(), Some(1), "{}", String::from_utf8_lossy(&out.stdout));
     assert!(String::from_utf8_lossy(&out.stdout).contains("POOR"));
 }
