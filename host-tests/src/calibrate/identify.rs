@@ -9,11 +9,12 @@
 //! parameters that trade with each other (e.g. a common azimuth of the
 //! three arms with the instrument's rotation about z).
 //!
-//! Observability index: O1 of Y. Sun and J. M. Hollerbach, "Observability
-//! index selection for robot calibration", ICRA 2008 (building on
-//! J.-H. Borm and C.-H. Menq, "Determination of optimal measurement
-//! configurations for robot calibration based on observability measure",
-//! IJRR 1991; from memory): `O1 = (s_1 s_2 ... s_n)^(1/n) / sqrt(m)` over
+//! Observability index: O1, as defined by J.-H. Borm and C.-H. Menq,
+//! "Determination of optimal measurement configurations for robot
+//! calibration based on observability measure", IJRR 10(1), 1991, and
+//! compared with the other indices (O2-O5) by Y. Sun and J. M. Hollerbach,
+//! "Observability index selection for robot calibration", ICRA 2008 (both
+//! from memory): `O1 = (s_1 s_2 ... s_n)^(1/n) / sqrt(m)` over
 //! the `n` identifiable singular values of the scaled Jacobian with `m`
 //! rows. Larger is better; it is the geometric mean sensitivity of one
 //! measured component to one scaled parameter.
