@@ -163,6 +163,13 @@ pub enum Error {
         /// What is wrong with it.
         fault: ConfigFault,
     },
+    /// A dynamics parameter is invalid (see [`crate::dynamics::Dynamics`]).
+    InvalidDynamics {
+        /// The arm, for per-arm parameters; `None` for the platform's.
+        arm: Option<u8>,
+        /// The parameter at fault.
+        parameter: crate::dynamics::DynamicsParameter,
+    },
     /// A result does not fit the number type (fixed point only: a velocity,
     /// rate or torque beyond the range of [`crate::scalar::FixedWide`]).
     OutOfRange,
@@ -184,6 +191,7 @@ impl Error {
             Error::InvalidGeometry(_) => "invalid_geometry",
             Error::InvalidLimits(_) => "invalid_limits",
             Error::InvalidArm { .. } => "invalid_arm",
+            Error::InvalidDynamics { .. } => "invalid_dynamics",
             Error::OutOfRange => "out_of_range",
         }
     }
@@ -241,6 +249,10 @@ impl fmt::Display for Error {
             Error::InvalidGeometry(why) => write!(f, "invalid geometry: {why}"),
             Error::InvalidLimits(why) => write!(f, "invalid limits: {why}"),
             Error::InvalidArm { arm, parameter, fault } => write!(f, "invalid arm {arm} {parameter}: {fault}"),
+            Error::InvalidDynamics { arm: Some(arm), parameter } => {
+                write!(f, "invalid dynamics, arm {arm}: {parameter}")
+            }
+            Error::InvalidDynamics { arm: None, parameter } => write!(f, "invalid dynamics: {parameter}"),
             Error::OutOfRange => f.write_str("a result does not fit the number type"),
         }
     }

@@ -11,6 +11,7 @@
 #[cfg(feature = "std")]
 extern crate std;
 
+pub mod dynamics;
 mod error;
 pub mod forward;
 mod guard;
@@ -23,6 +24,7 @@ pub mod scalar;
 mod solution;
 mod solve;
 
+pub use dynamics::{Dynamics, DynamicsParameter, DynamicsParams};
 pub use error::{ArmParameter, Bound, ConfigFault, Error, Input, JointEnd};
 pub use jacobian::Jacobian;
 pub use per_arm::{ArmCorrection, Corrections};

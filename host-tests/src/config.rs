@@ -117,10 +117,65 @@ pub struct RobotFile {
     /// Optional per-arm corrections; absent means the nominal machine.
     #[serde(default)]
     pub arm_corrections: Option<ArmCorrectionsFile>,
+    /// Optional `[dynamics]`: masses and inertias for the torque model.
+    #[serde(default)]
+    pub dynamics: Option<DynamicsFile>,
     /// Optional `[gates]` for `deltakin report` (see [`crate::gates`]);
     /// checked by the report, ignored by `ik` and `fk`.
     #[serde(default)]
     pub gates: Option<toml::Table>,
+}
+
+/// The `[dynamics]` table: masses (kg), lengths (mm), inertias (kg*mm^2),
+/// friction (N*mm). Per-arm keys take a number or a list of three.
+#[derive(Clone, Copy, Debug, Deserialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct DynamicsFile {
+    /// Each upper arm's mass, kg.
+    pub upper_arm_mass_kg: PerArm,
+    /// Actuator axis to the upper arm's centre of mass, mm.
+    pub upper_arm_com_mm: PerArm,
+    /// Upper arm inertia about the actuator axis (rotor and gearbox
+    /// reflected inertia included), kg*mm^2.
+    pub upper_arm_inertia_kg_mm2: PerArm,
+    /// Both rods of one lower arm, kg.
+    pub lower_arm_mass_kg: PerArm,
+    /// Share of the lower arm's mass lumped at the elbow, 0 to 1.
+    pub lower_arm_elbow_share: PerArm,
+    /// Platform (tool included), kg.
+    pub platform_mass_kg: f64,
+    /// Payload, kg.
+    pub payload_kg: f64,
+    /// Viscous friction, N*mm*s/rad (absent: 0).
+    #[serde(default)]
+    pub viscous_nmm_s_rad: Option<PerArm>,
+    /// Coulomb friction, N*mm (absent: 0).
+    #[serde(default)]
+    pub coulomb_nmm: Option<PerArm>,
+    /// Joint rate at which Coulomb friction reaches its full value, rad/s
+    /// (absent: 0.01; see `deltakin::dynamics`).
+    #[serde(default)]
+    pub coulomb_smoothing_rad_s: Option<f64>,
+}
+
+impl DynamicsFile {
+    /// The core's parameter set (not yet validated: the core does that).
+    #[must_use]
+    pub fn params(&self) -> deltakin::DynamicsParams {
+        let zero = |e: Option<PerArm>| e.map_or([0.0; 3], PerArm::values);
+        deltakin::DynamicsParams {
+            upper_arm_mass: self.upper_arm_mass_kg.values(),
+            upper_arm_com: self.upper_arm_com_mm.values(),
+            upper_arm_inertia: self.upper_arm_inertia_kg_mm2.values(),
+            lower_arm_mass: self.lower_arm_mass_kg.values(),
+            lower_arm_elbow_share: self.lower_arm_elbow_share.values(),
+            platform_mass: self.platform_mass_kg,
+            payload: self.payload_kg,
+            viscous: zero(self.viscous_nmm_s_rad),
+            coulomb: zero(self.coulomb_nmm),
+            coulomb_rate: self.coulomb_smoothing_rad_s.unwrap_or(0.01),
+        }
+    }
 }
 
 /// What is wrong with one number of a robot or moves file.
@@ -293,6 +348,16 @@ impl RobotFile {
         Self::parse(DEMO_ROBOT_TOML).unwrap_or_else(|e| panic!("built-in demo robot: {e}"))
     }
 
+    /// The validated dynamics model for `robot`, or `None` when the file
+    /// has no `[dynamics]` table.
+    ///
+    /// # Errors
+    /// [`ConfigError::Robot`] with [`Error::InvalidDynamics`] naming the bad
+    /// parameter.
+    pub fn dynamics<S: Real>(&self, robot: &Robot<S>) -> Result<Option<deltakin::Dynamics<S>>, ConfigError> {
+        self.dynamics.map(|d| deltakin::Dynamics::new(&d.params(), robot).map_err(ConfigError::Robot)).transpose()
+    }
+
     /// The geometry in f64 millimetres.
     #[must_use]
     pub fn geometry_f64(&self) -> Geometry<f64> {
@@ -429,6 +494,28 @@ mod tests {
         assert!(matches!(RobotFile::parse(&text), Err(ConfigError::Parse(_))));
         let text = format!("{DEMO_ROBOT_TOML}\ncolour = \"red\"\n");
         assert!(matches!(RobotFile::parse(&text), Err(ConfigError::Parse(_))));
+    }
+
+    #[test]
+    fn the_dynamics_table_is_read_checked_and_strict() {
+        let demo = RobotFile::demo();
+        let robot = demo.robot::<f64>().unwrap();
+        assert!(demo.dynamics(&robot).unwrap().is_some());
+        let base = DEMO_ROBOT_TOML.replace("lower_arm_elbow_share = 0.5", "lower_arm_elbow_share = [0.4, 0.5, 0.6]");
+        let file = RobotFile::parse(&base).unwrap();
+        assert_eq!(file.dynamics.unwrap().params().lower_arm_elbow_share, [0.4, 0.5, 0.6]);
+        let typo = DEMO_ROBOT_TOML.replace("payload_kg", "payload_kgs");
+        assert!(matches!(RobotFile::parse(&typo), Err(ConfigError::Parse(_))));
+        let bad =
+            RobotFile::parse(&DEMO_ROBOT_TOML.replace("lower_arm_elbow_share = 0.5", "lower_arm_elbow_share = 1.5"))
+                .unwrap();
+        assert!(matches!(
+            bad.dynamics(&robot),
+            Err(ConfigError::Robot(Error::InvalidDynamics {
+                arm: Some(0),
+                parameter: deltakin::DynamicsParameter::LowerArmElbowShare
+            }))
+        ));
     }
 
     #[test]
