@@ -109,17 +109,24 @@ pub(crate) fn solve<S: Real>(robot: &Robot<S>, trig: [(S, S); 3]) -> Result<([S;
     // small, and its length must keep its relative precision (for fixed
     // point an exact sum of squares; floats compute `dot(n, n).sqrt()`).
     let n_len = S::length3(n);
-    let inv_2n = S::ONE.checked_div(S::TWO * n_len).ok_or(Error::NearParallelSingularity)?;
-    let inv_n = inv_2n + inv_2n;
-    let m = [n[0] * inv_n, n[1] * inv_n, n[2] * inv_n];
+    // One reciprocal of 2 |n| for every division below: through
+    // `recip_internal` so that fixed point keeps its relative precision
+    // (a Q7.25 reciprocal of a small 2 |n| holds few significant bits, and
+    // q, whose error the near-plane intersection amplifies, inherits
+    // them). Floats: the same products as multiplying by `1 / (2 |n|)`.
+    let inv_2n = S::recip_internal(S::TWO * n_len).ok_or(Error::NearParallelSingularity)?;
+    let m = [n[0] + n[0], n[1] + n[1], n[2] + n[2]].map(|c| S::mul_recip_internal(c, inv_2n));
     // The radii enter as differences of squares (zero on the nominal machine).
     let uu = dot(u, u) + (l0_sq - k1.l * k1.l);
     let vv = dot(v, v) + (l0_sq - k2.l * k2.l);
     let vm = cross(v, m);
     let mu = cross(m, u);
-    let q =
-        [(uu * vm[0] + vv * mu[0]) * inv_2n, (uu * vm[1] + vv * mu[1]) * inv_2n, (uu * vm[2] + vv * mu[2]) * inv_2n];
-    let h2 = l0_sq - dot(q, q);
+    let q = [uu * vm[0] + vv * mu[0], uu * vm[1] + vv * mu[1], uu * vm[2] + vv * mu[2]]
+        .map(|x| S::mul_recip_internal(x, inv_2n));
+    // Through `height_sq` (floats: the same operations as writing it
+    // out): near the plane of the centres h is small and its error is that
+    // of h2 over 2 h, so fixed point forms h2 from exact squares.
+    let h2 = S::height_sq(k0.l, q);
     if !(h2 >= S::ZERO) {
         return Err(Error::NoAssembly);
     }
@@ -127,8 +134,39 @@ pub(crate) fn solve<S: Real>(robot: &Robot<S>, trig: [(S, S); 3]) -> Result<([S;
     let h = h2.sqrt();
     let t = if m[2] > S::ZERO { -h } else { h };
     let p = [p0[0] + q[0] + t * m[0], p0[1] + q[1] + t * m[1], p0[2] + q[2] + t * m[2]];
+    let p = if S::REFINES_FORWARD { refine(p, [p0, e1, e2], [k0.l, k1.l, k2.l]) } else { p };
     // A bounded number type (fixed point) gives not-a-number when a nearly
     // collinear set of centres drives `q` out of range: report it as the
     // singularity it is close to rather than return it.
     if S::all_finite(p) { Ok((p, [sub(p, p0), sub(p, e1), sub(p, e2)])) } else { Err(Error::NearParallelSingularity) }
+}
+
+/// One Newton step on the sphere equations `|p - C_i|^2 = l_i^2`, for
+/// number types that ask for it ([`Real::REFINES_FORWARD`]: fixed point).
+///
+/// With the rods `r_i = p - C_i` and the residuals `g_i = l_i^2 - |r_i|^2`
+/// (formed exactly by [`Real::height_sq`]), the linearised equations
+/// `2 r_i . dp = g_i` give `dp = (g_0 (r_1 x r_2) + g_1 (r_2 x r_0) + g_2
+/// (r_0 x r_1)) / (2 det)` with `det = r_0 . (r_1 x r_2)` (Cramer's rule;
+/// `det` is zero only at the parallel singularity). The closed form above
+/// leaves a few LSBs of rounding in its foot point, which the
+/// intersection amplifies along the normal when the platform is near the
+/// plane of the centres; the step's own rounding is that of the small
+/// correction, so the result is limited by the centres' rounding alone.
+/// When `det` has no usable reciprocal the point is returned unchanged
+/// (the caller's checks still apply).
+#[inline]
+fn refine<S: Real>(p: [S; 3], c: [[S; 3]; 3], l: [S; 3]) -> [S; 3] {
+    let [c0, c1, c2] = c;
+    let (r0, r1, r2) = (sub(p, c0), sub(p, c1), sub(p, c2));
+    let [l0, l1, l2] = l;
+    let g = [S::height_sq(l0, r0), S::height_sq(l1, r1), S::height_sq(l2, r2)];
+    let (a0, a1, a2) = (cross(r1, r2), cross(r2, r0), cross(r0, r1));
+    let det = dot(r0, a0);
+    let (det, g) = if det < S::ZERO { (-det, g.map(|x| -x)) } else { (det, g) };
+    let Some(inv) = S::recip_internal(det + det) else { return p };
+    let [g0, g1, g2] = g;
+    let step = |x: S, y: S, z: S| S::mul_recip_internal(g0 * x + g1 * y + g2 * z, inv);
+    let dp = [step(a0[0], a1[0], a2[0]), step(a0[1], a1[1], a2[1]), step(a0[2], a1[2], a2[2])];
+    [p[0] + dp[0], p[1] + dp[1], p[2] + dp[2]]
 }

@@ -42,38 +42,25 @@ pub const F32_POS_ERR_FLOOR_MM: f64 = 5e-6;
 /// over the whole envelope `Robot::<Fixed>::new` admits (lower arm 50 to
 /// 4000 mm, upper arm 0.2 lower arms or more, `R <= 1.25`; see
 /// `deltakin::Fixed`), for the dimensions as the robot holds them
-/// (Q18.14). Measured worst 2.34e-6 rad over 2,846 guarded poses at and
-/// between the envelope's corners (`tests/fixed_point.rs`, at a 386 mm
-/// lower arm with the upper arm at 0.2 of it): 2.1x headroom.
+/// (Q18.14). Measured worst 3.83e-6 rad over 60,000 random cases at and
+/// between the envelope's corners (`tests/fixed_point.rs`, three seeds of
+/// 20,000; 3.07e-6 with the default seed), on small machines (50 mm lower
+/// arm, upper arm at 0.2 of it) near the serial margin: 1.3x headroom.
 pub const FIXED_JOINT_ERR_RAD: f64 = 5e-6;
 /// Fixed-point core, platform position (mm): the fixed-point target, 5 um,
-/// met for lower arms up to [`FIXED_POS_TARGET_MAX_LOWER_ARM_MM`]; beyond
-/// that the bound is [`FIXED_POS_ERR_PER_LOWER_ARM`] times the lower arm
-/// (see [`fixed_pos_err_mm`]).
+/// over the whole envelope `Robot::<Fixed>::new` admits (as for
+/// [`FIXED_JOINT_ERR_RAD`]), for the dimensions as the robot holds them.
+/// Measured worst 3.75 um over 60,000 random cases at and between the
+/// envelope's corners (`tests/fixed_point.rs`, three seeds of 20,000; 3.55
+/// um with the default seed), always on a lower arm near 4000 mm: about
+/// 0.9e-6 lower arms (30 Q7.25 LSBs), what the rounding of the sphere
+/// centres (about one LSB each) becomes through the intersection, which
+/// near the plane of the centres amplifies it about 26 times. Headroom
+/// 1.33x at the largest machine, more for every smaller one (the error is
+/// constant in lower-arm units). Before the forward kinematics kept the
+/// precision of its foot point (normalised reciprocal of `2 |n|`, exact
+/// `h^2`, a closing Newton step) the worst case was 17.6 um.
 pub const FIXED_POS_ERR_MM: f64 = 5e-3;
-/// Fixed-point core, platform position, relative to the lower arm (mm per
-/// mm): the bound over the whole envelope. The error is constant in
-/// lower-arm units (Q7.25 inside), so in millimetres it grows with the
-/// machine. Measured worst 4.40e-6 (147 Q7.25 LSBs: 17.6 um at a 4000 mm
-/// arm) at the envelope's corner of the shortest upper arm (0.2) with the
-/// largest base-minus-platform radius (1.03 lower arms), the arms near
-/// vertical and the parallel margin at its 0.1 guard: the platform then
-/// sits 0.04 lower arms off the plane of the sphere centres, where the
-/// three-sphere intersection amplifies the few LSBs of rounding in the
-/// centres and the circumcentre about 26 times (the f64 reference moves
-/// 26 LSBs for one LSB of `d`). Bound 8e-6: 1.8x headroom.
-pub const FIXED_POS_ERR_PER_LOWER_ARM: f64 = 8e-6;
-/// Longest lower arm (mm) at which [`FIXED_POS_ERR_MM`] holds:
-/// `FIXED_POS_ERR_MM / FIXED_POS_ERR_PER_LOWER_ARM`.
-pub const FIXED_POS_TARGET_MAX_LOWER_ARM_MM: f64 = FIXED_POS_ERR_MM / FIXED_POS_ERR_PER_LOWER_ARM;
-
-/// The fixed-point position bound (mm) for a machine with this lower arm
-/// (mm): [`FIXED_POS_ERR_MM`] up to [`FIXED_POS_TARGET_MAX_LOWER_ARM_MM`],
-/// [`FIXED_POS_ERR_PER_LOWER_ARM`] times the lower arm beyond.
-#[must_use]
-pub fn fixed_pos_err_mm(lower_arm_mm: f64) -> f64 {
-    FIXED_POS_ERR_MM.max(FIXED_POS_ERR_PER_LOWER_ARM * lower_arm_mm)
-}
 
 /// The accuracy bounds a report gates on: the constants above unless a
 /// gate file says otherwise. Index 0 is f64, 1 is f32, 2 is fixed point.

@@ -55,13 +55,18 @@
 //!   tests, `host-tests/tests/fixed_point.rs`, 20,000 random machines and
 //!   guarded poses at and between the corners of the envelope, both
 //!   margins at least 0.1), for the dimensions as the robot holds them:
-//!   joint angle 3.1 urad (bound 5 urad); platform position 4.4e-6 lower
-//!   arms (147 LSBs; bound 8e-6 lower arms, so the 5 um target holds up to
-//!   a 625 mm lower arm and 4000 mm arms get 32 um). The position error is
-//!   constant in lower-arm units and largest at the corner of the shortest
-//!   upper arm with the widest base at a parallel margin of 0.1, where the
-//!   platform lies close to the plane of the sphere centres and the
-//!   intersection amplifies the centres' rounding about 26 times.
+//!   joint angle 3.8 urad (bound 5 urad); platform position 3.75 um on a
+//!   4000 mm lower arm, 0.9e-6 lower arms (bound 5 um over the whole
+//!   envelope). The position error is constant in lower-arm units and
+//!   largest with a wide base, the arms near vertical and the parallel
+//!   margin near its 0.1 guard, where the platform lies close to the plane
+//!   of the sphere centres and the intersection amplifies the centres'
+//!   rounding about 26 times. Three things keep the arithmetic from adding
+//!   to that (forward kinematics was at 17.6 um before them): the
+//!   reciprocal of the centre triangle's `2 |n|` keeps a 30-bit mantissa
+//!   ([`crate::Real::recip_internal`]), `h^2` comes from exact squares
+//!   ([`crate::Real::height_sq`]), and one Newton step on the sphere
+//!   equations closes the solution ([`crate::Real::REFINES_FORWARD`]).
 //! * Dimensions are held in Q18.14 (61 nm): a dimension given to finer
 //!   precision is rounded by up to 31 nm, which on a small machine at a
 //!   low serial margin turns a joint by more than the bound (13 urad on a
@@ -265,6 +270,38 @@ fn mul_raw(a: i32, b: i32, shift: u32) -> i32 {
     #[allow(clippy::cast_possible_wrap)]
     let q = ((hi << (32 - shift)) | (lo >> shift)) as i32;
     if neg { -q } else { q }
+}
+
+/// `l^2 - (x^2 + y^2 + z^2)` in Q7.25 from the exact squares, rounded
+/// to nearest (ties away from zero), or NaN when an operand is NaN or the
+/// result is out of range. Each square is below 2^62, so the sum of the
+/// three is below 2^64 and the difference is formed on magnitudes
+/// without overflow.
+#[inline]
+fn height_sq_raw(l: i32, v: [i32; 3]) -> i32 {
+    let [x, y, z] = v;
+    if l == NAN || x == NAN || y == NAN || z == NAN {
+        return NAN;
+    }
+    let sq = |c: i32| {
+        let m = c.unsigned_abs();
+        mul_u32_wide(m, m)
+    };
+    let (ll, s) = (sq(l), sq(x) + sq(y) + sq(z));
+    let (mag, neg) = if ll >= s { (ll - s, false) } else { (s - ll, true) };
+    // round(mag / 2^25), half away from zero; below 2^40.
+    let q = (mag >> FRAC) + ((mag >> (FRAC - 1)) & 1);
+    // Below 2^31, both signs are representable (-(2^31 - 1) is not NaN).
+    match i32::try_from(q) {
+        Ok(q) => {
+            if neg {
+                -q
+            } else {
+                q
+            }
+        }
+        Err(_) => NAN,
+    }
 }
 
 /// `(a << frac) / b`, rounded, or `None`.
@@ -625,6 +662,25 @@ impl Arith for Fixed {
 }
 
 impl FixedRecip {
+    /// The reciprocal of the raw value `d > 0` with a 30-bit mantissa: `m =
+    /// round(2^(k + 29) / d)`, `k` the bit length of `d`, so `2^29 < m <=
+    /// 2^30` (the quotient fits the 31-bit long division) and the relative
+    /// error of `m` is below `2^-30`. `None` for `d <= 0` (NaN included).
+    #[inline]
+    fn of_positive_raw(d: i32) -> Option<Self> {
+        if d <= 0 {
+            return None;
+        }
+        let k = 32 - d.leading_zeros(); // 1..=31
+        #[allow(clippy::cast_sign_loss)] // d > 0
+        let du = d as u32;
+        // 2^(k + 29) / d < 2^30: the quotient is below 2^31.
+        let m = div_u64_by_u31((1u64 << (k + 29)) + u64::from(du / 2), du)?;
+        // As `m = round(2^(k' + 30) / d)` with `k' = k - 1`: same form as
+        // [`FixedWide::reciprocal`], for [`FixedRecip::apply`].
+        Some(Self { m: i64::from(m), k: k - 1 })
+    }
+
     /// `num * 2^frac / D`, rounded, or NaN when out of range.
     #[inline]
     fn apply(self, num: i32, frac: u32) -> i32 {
@@ -633,7 +689,7 @@ impl FixedRecip {
         }
         // |num| < 2^31, m <= 2^31: product below 2^62. num and D share
         // their format, so num * m / 2^(k + 30) is the plain quotient and
-        // the result in Q.frac needs a shift of k + 30 - frac (>= 7).
+        // the result in Q.frac needs a shift of k + 30 - frac (>= 5).
         let shift = self.k + 30 - frac;
         #[allow(clippy::cast_sign_loss, clippy::cast_possible_truncation)] // 2^30 <= m <= 2^31
         let m = self.m as u32;
@@ -718,6 +774,21 @@ impl Arith for FixedWide {
 }
 
 impl Real for Fixed {
+    const REFINES_FORWARD: bool = true;
+
+    /// `None` unless `den > 0`. One 31-step long division on 32-bit words
+    /// (no 64-bit library division).
+    #[inline]
+    fn recip_internal(den: Self) -> Option<FixedRecip> {
+        FixedRecip::of_positive_raw(den.0)
+    }
+
+    /// One [`mul_u32_wide`] product and a rounding shift.
+    #[inline]
+    fn mul_recip_internal(num: Self, r: FixedRecip) -> Self {
+        Self(r.apply(num.0, FRAC))
+    }
+
     /// Digit-by-digit root: correctly rounded, NaN for a
     /// negative argument.
     #[inline]
@@ -732,6 +803,13 @@ impl Real for Fixed {
     #[inline]
     fn length3(v: [Self; 3]) -> Self {
         Self(cordic::length3(v.map(|c| c.0)))
+    }
+
+    /// Exact sum and difference of the squares in Q.50, rounded once to
+    /// nearest (ties away from zero): 0.5 LSB. NaN when out of range.
+    #[inline]
+    fn height_sq(l: Self, v: [Self; 3]) -> Self {
+        Self(height_sq_raw(l.0, v.map(|c| c.0)))
     }
 
     /// CORDIC vectoring, error at most
@@ -819,6 +897,44 @@ mod tests {
         assert_eq!(add_raw(i32::MAX, -i32::MAX), 0);
         assert_eq!(mul_raw(NAN, 0, FRAC), NAN);
         assert_eq!(div_raw(1, NAN, FRAC), None);
+    }
+
+    #[test]
+    fn height_sq_is_the_exact_difference_rounded_once() {
+        let shifted = |k: usize| operands().skip(k).chain(operands()).step_by(3);
+        for (((l, x), y), z) in operands().zip(shifted(1)).zip(shifted(2)).zip(shifted(7)) {
+            let v = [x, y, z];
+            let exact: i128 = i128::from(l).pow(2) - v.iter().map(|&c| i128::from(c).pow(2)).sum::<i128>();
+            // Half away from zero, on the magnitude.
+            let mag = exact.unsigned_abs();
+            let q = (mag >> FRAC) + ((mag >> (FRAC - 1)) & 1);
+            let want = i32::try_from(q).map_or(NAN, |q| if exact < 0 { -q } else { q });
+            assert_eq!(height_sq_raw(l, v), want, "{l} {v:?}");
+        }
+        assert_eq!(height_sq_raw(NAN, [0, 0, 0]), NAN);
+        assert_eq!(height_sq_raw(ONE_RAW, [0, NAN, 0]), NAN);
+        let h = Fixed::height_sq(Fixed::ONE, [0.6, 0.0, 0.8].map(|c| Fixed::from_f64(c).unwrap()));
+        assert!(h.to_f64().abs() <= LSB);
+    }
+
+    #[test]
+    fn internal_reciprocal_quotients_keep_their_relative_precision() {
+        for den in [1, 2, 3, 0x7FFF, 0x1_0000, 4_362_076, ONE_RAW, ONE_RAW + 1, i32::MAX] {
+            let r = Fixed::recip_internal(Fixed::from_raw(den)).unwrap();
+            for num in operands().step_by(11) {
+                let got = Fixed::mul_recip_internal(Fixed::from_raw(num), r).to_raw();
+                let want = f64::from(num) * f64::from(ONE_RAW) / f64::from(den);
+                if want.abs() >= f64::from(i32::MAX) - 1.0 {
+                    continue;
+                }
+                // Half an LSB of rounding plus 2^-29 of the quotient.
+                let bound = 0.5 + want.abs() * 2f64.powi(-29) + 1e-9;
+                assert!((f64::from(got) - want).abs() <= bound, "{num} / {den}: {got} vs {want}");
+            }
+        }
+        assert_eq!(Fixed::recip_internal(Fixed::ZERO), None);
+        assert_eq!(Fixed::recip_internal(-Fixed::ONE), None);
+        assert_eq!(Fixed::recip_internal(Fixed::NAN), None);
     }
 
     #[test]

@@ -417,6 +417,16 @@ impl Arith for f32 {
 }
 
 impl Real for f32 {
+    #[inline]
+    fn recip_internal(den: Self) -> Option<Self> {
+        Self::ONE.checked_div(den)
+    }
+
+    #[inline]
+    fn mul_recip_internal(num: Self, r: Self) -> Self {
+        num * r
+    }
+
     #[inline(always)]
     fn sqrt(self) -> Self {
         sqrt_f32(self)

@@ -83,6 +83,16 @@ impl Arith for f64 {
 
 impl Real for f64 {
     #[inline]
+    fn recip_internal(den: Self) -> Option<Self> {
+        Self::ONE.checked_div(den)
+    }
+
+    #[inline]
+    fn mul_recip_internal(num: Self, r: Self) -> Self {
+        num * r
+    }
+
+    #[inline]
     fn sqrt(self) -> Self {
         libm::sqrt(self)
     }

@@ -170,6 +170,14 @@ pub trait Arith:
 /// Each implementation documents its method, its valid input range and its
 /// measured error bound, and runs in a fixed number of operations.
 pub trait Real: Arith {
+    /// Whether the forward kinematics ends with one Newton step on the
+    /// three sphere equations (see `forward.rs`). `false` for floats,
+    /// whose intersection is already within their bound and whose cost
+    /// the step would raise; `true` for fixed point, whose foot point
+    /// carries a few LSBs of rounding that the intersection amplifies near
+    /// the plane of the centres.
+    const REFINES_FORWARD: bool = false;
+
     /// Square root of `self`.
     ///
     /// Valid for `self >= 0`. The solvers check the sign before calling;
@@ -192,6 +200,40 @@ pub trait Real: Arith {
         let [x, y, z] = v;
         (x * x + y * y + z * z).sqrt()
     }
+
+    /// `l^2 - |v|^2`: the squared height above a foot point `v` of a
+    /// sphere of radius `l` (in the forward kinematics, where it is small
+    /// and its error is amplified by `1 / (2 h)`).
+    ///
+    /// Valid for finite values whose squares the type can hold. The
+    /// default computes `l * l - (x * x + y * y + z * z)` in that order
+    /// (for floats: the operations of writing it out). Fixed point
+    /// overrides it with an exact sum in Q.50 and one rounding (0.5 LSB
+    /// instead of up to 2 LSBs).
+    #[must_use]
+    #[inline]
+    fn height_sq(l: Self, v: [Self; 3]) -> Self {
+        let [x, y, z] = v;
+        l * l - (x * x + y * y + z * z)
+    }
+
+    /// A reciprocal of the internal value `den`, for dividing several
+    /// internal values by it with [`Real::mul_recip_internal`]; `None`
+    /// when `den` is not positive-and-representable (floats: when `1 / den`
+    /// is not finite). Floats return `1 / den`; fixed point keeps a
+    /// normalised 30-bit mantissa and an exponent, so that the quotients
+    /// keep their relative precision when `den` is small (a plain Q7.25
+    /// reciprocal of 0.13 holds 22 significant bits, and the quotients
+    /// inherit its relative rounding).
+    #[must_use]
+    fn recip_internal(den: Self) -> Option<Self::Recip>;
+
+    /// `num / den` for `r = recip_internal(den)`: floats `num * r` (the
+    /// same operation as multiplying by a computed reciprocal); fixed
+    /// point rounded to nearest, within 0.5 LSB plus a relative `2^-29`
+    /// of the quotient. Not a number when the quotient is out of range.
+    #[must_use]
+    fn mul_recip_internal(num: Self, r: Self::Recip) -> Self;
 
     /// Four-quadrant arc tangent of `self / x` in radians, in `[-pi, pi]`.
     /// `atan2(0, 0)` returns 0.
