@@ -241,8 +241,9 @@ fn sub_raw(a: i32, b: i32) -> i32 {
 /// `a * b >> shift`, rounded to nearest with ties towards +inf, or NaN
 /// when out of range; `shift` is 1..=31.
 ///
-/// The magnitude product `P = |a| |b| < 2^62` comes from
-/// [`mul_u32_wide`] as two words. Rounding `+-P / 2^s` to nearest, ties
+/// The magnitude product `P = |a| |b| < 2^62` comes as two words from
+/// four 16 x 16 bit partial products (as [`mul_u32_wide`], with fewer
+/// carries: both magnitudes are below 2^31). Rounding `+-P / 2^s` to nearest, ties
 /// up, is `sign * floor((P + 2^(s-1) - neg) / 2^s)` with `neg` 1 for a
 /// negative product (`floor((h - P) / 2^s) = -floor((P + h - 1) / 2^s)`),
 /// so the whole rounding runs on the magnitude in 32-bit words, with the
@@ -255,14 +256,19 @@ fn mul_raw(a: i32, b: i32, shift: u32) -> i32 {
         return NAN;
     }
     let neg = (a ^ b) < 0;
-    let p = mul_u32_wide(a.unsigned_abs(), b.unsigned_abs());
-    #[allow(clippy::cast_possible_truncation)]
-    let (hi, lo) = ((p >> 32) as u32, p as u32);
+    // Magnitudes below 2^31 (NaN excluded above): the high halves are
+    // below 2^15, so each cross product is below 2^31 and their sum below
+    // 2^32, one 32-bit word; the high product is below 2^30. Four `MULS`
+    // and no 64-bit arithmetic on a Cortex-M0.
+    let (ua, ub) = (a.unsigned_abs(), b.unsigned_abs());
+    let (a0, a1, b0, b1) = (ua & 0xFFFF, ua >> 16, ub & 0xFFFF, ub >> 16);
+    let mid = a0 * b1 + a1 * b0;
+    let (lo, c1) = (a0 * b0).overflowing_add(mid << 16);
     // Below 2^31: the rounding term.
     let c = (1u32 << (shift - 1)) - u32::from(neg);
-    let (lo, carry) = lo.overflowing_add(c);
-    // hi < 2^30: no overflow.
-    let hi = hi + u32::from(carry);
+    let (lo, c2) = lo.overflowing_add(c);
+    // Below 2^30 + 2^16 + 2: no overflow.
+    let hi = a1 * b1 + (mid >> 16) + u32::from(c1) + u32::from(c2);
     if hi >= 1 << (shift - 1) {
         return NAN;
     }
