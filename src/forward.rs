@@ -134,7 +134,7 @@ pub(crate) fn solve<S: Real>(robot: &Robot<S>, trig: [(S, S); 3]) -> Result<([S;
     let h = h2.sqrt();
     let t = if m[2] > S::ZERO { -h } else { h };
     let p = [p0[0] + q[0] + t * m[0], p0[1] + q[1] + t * m[1], p0[2] + q[2] + t * m[2]];
-    let p = if S::REFINES_FORWARD { refine(p, [p0, e1, e2], [k0.l, k1.l, k2.l]) } else { p };
+    let p = if S::REFINES_FORWARD { refine(p, p0, [u, v], n, [k0.l, k1.l, k2.l]) } else { p };
     // A bounded number type (fixed point) gives not-a-number when a nearly
     // collinear set of centres drives `q` out of range: report it as the
     // singularity it is close to rather than return it.
@@ -156,17 +156,23 @@ pub(crate) fn solve<S: Real>(robot: &Robot<S>, trig: [(S, S); 3]) -> Result<([S;
 /// When `det` has no usable reciprocal the point is returned unchanged
 /// (the caller's checks still apply).
 #[inline]
-fn refine<S: Real>(p: [S; 3], c: [[S; 3]; 3], l: [S; 3]) -> [S; 3] {
-    let [c0, c1, c2] = c;
-    let (r0, r1, r2) = (sub(p, c0), sub(p, c1), sub(p, c2));
+fn refine<S: Real>(p: [S; 3], c0: [S; 3], uv: [[S; 3]; 2], n: [S; 3], l: [S; 3]) -> [S; 3] {
+    let [u, v] = uv;
+    // r_1 = r_0 - u and r_2 = r_0 - v, so r_2 x r_0 = r_0 x v, r_0 x r_1 =
+    // u x r_0 and r_1 x r_2 = n - (r_2 x r_0) - (r_0 x r_1): two cross
+    // products, and det = r_0 . n.
+    let r0 = sub(p, c0);
+    let (r1, r2) = (sub(r0, u), sub(r0, v));
     let [l0, l1, l2] = l;
     let g = [S::height_sq(l0, r0), S::height_sq(l1, r1), S::height_sq(l2, r2)];
-    let (a0, a1, a2) = (cross(r1, r2), cross(r2, r0), cross(r0, r1));
-    let det = dot(r0, a0);
+    let (a1, a2) = (cross(r0, v), cross(u, r0));
+    let det = dot(r0, n);
     let (det, g) = if det < S::ZERO { (-det, g.map(|x| -x)) } else { (det, g) };
     let Some(inv) = S::recip_internal(det + det) else { return p };
+    // g_0 a_0 + g_1 a_1 + g_2 a_2 = g_0 n + (g_1 - g_0) a_1 + (g_2 - g_0) a_2.
     let [g0, g1, g2] = g;
-    let step = |x: S, y: S, z: S| S::mul_recip_internal(g0 * x + g1 * y + g2 * z, inv);
-    let dp = [step(a0[0], a1[0], a2[0]), step(a0[1], a1[1], a2[1]), step(a0[2], a1[2], a2[2])];
+    let (d1, d2) = (g1 - g0, g2 - g0);
+    let step = |nk: S, x: S, y: S| S::mul_recip_internal(g0 * nk + d1 * x + d2 * y, inv);
+    let dp = [step(n[0], a1[0], a2[0]), step(n[1], a1[1], a2[1]), step(n[2], a1[2], a2[2])];
     [p[0] + dp[0], p[1] + dp[1], p[2] + dp[2]]
 }

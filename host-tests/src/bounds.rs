@@ -50,13 +50,13 @@ pub const FIXED_JOINT_ERR_RAD: f64 = 5e-6;
 /// Fixed-point core, platform position (mm): the fixed-point target, 5 um,
 /// over the whole envelope `Robot::<Fixed>::new` admits (as for
 /// [`FIXED_JOINT_ERR_RAD`]), for the dimensions as the robot holds them.
-/// Measured worst 3.75 um over 60,000 random cases at and between the
+/// Measured worst 3.92 um over 60,000 random cases at and between the
 /// envelope's corners (`tests/fixed_point.rs`, three seeds of 20,000; 3.55
 /// um with the default seed), always on a lower arm near 4000 mm: about
 /// 0.9e-6 lower arms (30 Q7.25 LSBs), what the rounding of the sphere
 /// centres (about one LSB each) becomes through the intersection, which
 /// near the plane of the centres amplifies it about 26 times. Headroom
-/// 1.33x at the largest machine, more for every smaller one (the error is
+/// 1.28x at the largest machine, more for every smaller one (the error is
 /// constant in lower-arm units). Before the forward kinematics kept the
 /// precision of its foot point (normalised reciprocal of `2 |n|`, exact
 /// `h^2`, a closing Newton step) the worst case was 17.6 um.
