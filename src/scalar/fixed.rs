@@ -81,11 +81,18 @@
 //! and `atan2` / `sin_cos` CORDIC loops cut short with a one-step finish
 //! (see `cordic.rs`). Measured with `ci/target-report.sh` (QEMU
 //! instruction counts, worst case over the probe's poses): guarded inverse
-//! kinematics 13 424 -> 10 421 instructions, forward 13 115 -> 10 107.
-//! What remains is mostly the straight-line checked arithmetic of the
-//! solvers and guards (about 40 instructions per checked product), the
-//! three square roots and the divisions (about 350 instructions each) and
-//! the three `atan2` (about 450 each).
+//! kinematics 13 424 -> 10 421 instructions, forward 13 115 -> 10 107;
+//! with the per-arm model 11 703 and 10 481; with the leaner checked
+//! product (both magnitudes below 2^31: one-word cross sum) 11 122, and
+//! forward 12 993 with the precision work above (the Newton step costs
+//! about 2 500). What remains is mostly the straight-line checked
+//! arithmetic of the solvers and guards (about 85 checked products per
+//! inverse kinematics), the three square roots and the divisions (about
+//! 350-450 instructions each) and the three `atan2` (about 450 each). A
+//! division by a Newton-iterated reciprocal (16-entry seed, three steps,
+//! exact correction) was tried and measured slower than the 31-step loop
+//! (inverse kinematics 11 254 against 11 122): its eight 32 x 32 -> 64 bit
+//! products cost what the loop's shifts do.
 //!
 //! # Overflow policy
 //! Every operator is checked and never panics: `+`, `-`, `*` (64-bit
