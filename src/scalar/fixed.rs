@@ -74,25 +74,29 @@
 //!   machine, not an arithmetic error: give dimensions the robot can hold.
 //!
 //! # Cost on a Cortex-M0 (no FPU, 32 x 32 -> 32 bit multiply, no divide)
-//! No operation here calls the 64-bit library multiply or divide:
+//! No operation of the solvers calls the 64-bit library multiply or
+//! divide (a robot's construction does, once):
 //! products are four 16 x 16 bit partial products with the rounding done
-//! on 32-bit words, quotients a fixed 31-step long division on 32-bit
-//! words, the square root a 28-step digit-by-digit loop on 32-bit words,
+//! on 32-bit words, quotients a reciprocal from a 16-entry seed and three
+//! Newton steps with a fixed correction (a 31-step long division as its
+//! never-taken fallback), the square root a 28-step digit-by-digit loop on 32-bit words,
 //! and `atan2` / `sin_cos` CORDIC loops cut short with a one-step finish
 //! (see `cordic.rs`). Measured with `ci/target-report.sh` (QEMU
 //! instruction counts, worst case over the probe's poses): guarded inverse
 //! kinematics 13 424 -> 10 421 instructions, forward 13 115 -> 10 107;
 //! with the per-arm model 11 703 and 10 481; with the leaner checked
-//! product (both magnitudes below 2^31: one-word cross sum) 11 122, and
-//! forward 12 993 with the precision work above (the Newton step costs
-//! about 2 500). What remains is mostly the straight-line checked
-//! arithmetic of the solvers and guards (about 85 checked products per
-//! inverse kinematics), the three square roots and the divisions (about
-//! 350-450 instructions each) and the three `atan2` (about 450 each). A
-//! division by a Newton-iterated reciprocal (16-entry seed, three steps,
-//! exact correction) was tried and measured slower than the 31-step loop
-//! (inverse kinematics 11 254 against 11 122): its eight 32 x 32 -> 64 bit
-//! products cost what the loop's shifts do.
+//! product (both magnitudes below 2^31: one-word cross sum) and the
+//! division by a Newton-iterated reciprocal 10 982, and forward 12 866
+//! with the precision work above (the Newton step of the forward
+//! kinematics costs about 2 500). What remains is mostly the
+//! straight-line checked arithmetic of the solvers and guards (about 85
+//! checked products per inverse kinematics, about 20 instructions each
+//! plus the checks of the sums around them), the three square roots (a
+//! 28-step loop), the divisions and the three `atan2` (about 450 each).
+//! The reciprocal division gains less than its operation count suggests
+//! (about 50 instructions a division); written with 64-bit products it was
+//! slower than the 31-step loop, because the compiler turned them into
+//! calls to the library multiply ([`mul_words`] keeps them on words).
 //!
 //! # Overflow policy
 //! Every operator is checked and never panics: `+`, `-`, `*` (64-bit
@@ -175,7 +179,116 @@ pub(super) fn mul_u32_wide(a: u32, b: u32) -> u64 {
     (u64::from(hi) << 32) | u64::from(lo)
 }
 
+/// The high and low words of `a * b`, on 32-bit words only (four 16 x 16
+/// bit partial products, as [`mul_u32_wide`], without forming a 64-bit
+/// value that a compiler could hand to the library multiply).
+#[inline]
+fn mul_words(a: u32, b: u32) -> (u32, u32) {
+    let (a0, a1, b0, b1) = (a & 0xFFFF, a >> 16, b & 0xFFFF, b >> 16);
+    // Each partial product below 2^32; the cross sum's carry is 2^48.
+    let (mid, c1) = (a0 * b1).overflowing_add(a1 * b0);
+    let (lo, c2) = (a0 * b0).overflowing_add(mid << 16);
+    // The whole product is below 2^64: no overflow.
+    let hi = a1 * b1 + (mid >> 16) + (u32::from(c1) << 16) + u32::from(c2);
+    (hi, lo)
+}
+
 /// `floor(n / d)` when it is below 2^31, else `None`; `0 < d < 2^31`.
+/// Exact.
+///
+/// Division by a reciprocal (D. E. Knuth, The Art of Computer Programming
+/// vol. 2, 4.3.3 and its Newton iteration for the reciprocal): `d` is
+/// normalised to `dn = d 2^k` in `[2^31, 2^32)`, its reciprocal `R ~
+/// 2^63 / dn` comes from a 16-entry seed (relative error below 3.1 %) and
+/// three Newton steps `R <- R (2 - dn R)` on 32-bit words. The estimate
+/// `hi(n' R)` (`n'` the top 32 bits of `n` that matter), less a margin of
+/// two, is at most the quotient and within [`QUOTIENT_FIXUPS`] of it;
+/// that many fixed correction steps on the exact remainder bring it up.
+/// Should a remainder still be out of place, the bit-by-bit division
+/// ([`div_u64_by_u31_bitwise`]) answers instead: exact either way, in
+/// bounded time.
+#[inline]
+fn div_u64_by_u31(n: u64, d: u32) -> Option<u32> {
+    if d == 0 || d >= 1 << 31 || n >> 31 >= u64::from(d) {
+        return None;
+    }
+    let mut q = quotient_estimate(n, d);
+    let (hi, lo) = mul_words(q, d);
+    let Some(mut rem) = n.checked_sub((u64::from(hi) << 32) | u64::from(lo)) else {
+        return div_u64_by_u31_bitwise(n, d);
+    };
+    for _ in 0..QUOTIENT_FIXUPS {
+        if rem >= u64::from(d) {
+            rem -= u64::from(d);
+            q += 1;
+        }
+    }
+    if rem >= u64::from(d) {
+        return div_u64_by_u31_bitwise(n, d);
+    }
+    Some(q)
+}
+
+/// Correction steps after the reciprocal estimate of [`div_u64_by_u31`]:
+/// the largest correction over the tests' sweep is 4
+/// (`reciprocal_division_needs_few_corrections`).
+const QUOTIENT_FIXUPS: u32 = 6;
+
+/// A lower estimate of `floor(n / d)` (`0 < d < 2^31`, `n < d 2^31`):
+/// `hi(n' R)` less two units for the rounding of the Newton steps.
+#[inline]
+fn quotient_estimate(n: u64, d: u32) -> u32 {
+    let k = d.leading_zeros(); // 1..=31
+    let dn = d << k; // [2^31, 2^32)
+    let r = reciprocal_q31(dn);
+    // n < d 2^31 < 2^(63 - k): the bits from 2^(31 - k) up fit a word.
+    #[allow(clippy::cast_possible_truncation)] // below 2^32, see above
+    let top = (n >> (31 - k)) as u32;
+    mul_words(top, r).0.saturating_sub(2)
+}
+
+/// `round(2^37 / (33 + 2 i))`: `2^31` over the middle of the `i`-th
+/// sixteenth of `[1/2, 1)`, the seed of [`reciprocal_q31`].
+const RECIP_SEED: [u32; 16] = [
+    4_164_816_772,
+    3_926_827_242,
+    3_714_566_310,
+    3_524_075_730,
+    3_352_169_597,
+    3_196_254_732,
+    3_054_198_966,
+    2_924_233_053,
+    2_804_876_601,
+    2_694_881_441,
+    2_593_187_801,
+    2_498_890_063,
+    2_411_209_710,
+    2_329_473_788,
+    2_253_097_598,
+    2_181_570_690,
+];
+
+/// `R ~ 2^63 / dn` to within about `2^-29` relative, for `dn` in
+/// `[2^31, 2^32)`, as `u32` (the top clamped).
+#[inline]
+fn reciprocal_q31(dn: u32) -> u32 {
+    // The four bits below the leading one pick the seed.
+    let mut r = RECIP_SEED.get(((dn >> 27) & 0xF) as usize).copied().unwrap_or(1 << 31);
+    for _ in 0..3 {
+        // p = dn R / 2^32 ~ 2^31 (D R in Q.31 with D = dn / 2^32), in
+        // (2^30, 2^32) for any R within 3.1 % of 1 / D or below it.
+        let p = mul_words(dn, r).0;
+        // 2 - D R in Q.31 (p > 0).
+        let e = p.wrapping_neg();
+        // R (2 - D R) <= 1 / D: at most 2^32 in Q.31, clamped to a word.
+        let (hi, lo) = mul_words(r, e);
+        r = if hi >= 1 << 31 { u32::MAX } else { (hi << 1) | (lo >> 31) };
+    }
+    r
+}
+
+/// `floor(n / d)` when it is below 2^31, else `None`; `0 < d < 2^31`: the
+/// fallback of [`div_u64_by_u31`], one quotient bit per step.
 ///
 /// Restoring (shift-and-subtract) long division, one quotient bit per
 /// step, e.g. D. E. Knuth, The Art of Computer Programming vol. 2, 4.3.1.
@@ -186,7 +299,7 @@ pub(super) fn mul_u32_wide(a: u32, b: u32) -> u64 {
 /// instruction, and a general 64-bit division there is a long library
 /// call. Exact.
 #[inline]
-fn div_u64_by_u31(n: u64, d: u32) -> Option<u32> {
+fn div_u64_by_u31_bitwise(n: u64, d: u32) -> Option<u32> {
     if n >> 31 >= u64::from(d) {
         return None;
     }
@@ -789,14 +902,15 @@ impl Arith for FixedWide {
 impl Real for Fixed {
     const REFINES_FORWARD: bool = true;
 
-    /// `None` unless `den > 0`. One 31-step long division on 32-bit words
-    /// (no 64-bit library division).
+    /// `None` unless `den > 0`. One division on 32-bit words (no 64-bit
+    /// library division).
     #[inline]
     fn recip_internal(den: Self) -> Option<FixedRecip> {
         FixedRecip::of_positive_raw(den.0)
     }
 
-    /// One [`mul_u32_wide`] product and a rounding shift.
+    /// One 32 x 32 -> 64 bit product from partial products and a rounding
+    /// shift.
     #[inline]
     fn mul_recip_internal(num: Self, r: FixedRecip) -> Self {
         Self(r.apply(num.0, FRAC))
@@ -910,6 +1024,51 @@ mod tests {
         assert_eq!(add_raw(i32::MAX, -i32::MAX), 0);
         assert_eq!(mul_raw(NAN, 0, FRAC), NAN);
         assert_eq!(div_raw(1, NAN, FRAC), None);
+    }
+
+    #[test]
+    fn reciprocal_division_needs_few_corrections() {
+        let mut worst = 0u32;
+        let mut x = 777u32;
+        let mut next = || {
+            // Numerical Recipes LCG, as `operands`.
+            x = x.wrapping_mul(1_664_525).wrapping_add(1_013_904_223);
+            x
+        };
+        for i in 0..200_000u32 {
+            let d = (next() >> (1 + i % 31)).max(1);
+            // n below d 2^31, spread over magnitudes.
+            let wide = (u64::from(next()) << 32) | u64::from(next());
+            let n = (wide % (u64::from(d) << 31)) >> (i % 40);
+            let want = u32::try_from(n / u64::from(d)).unwrap();
+            let est = quotient_estimate(n, d);
+            assert!(est <= want, "{n} / {d}: estimate {est} above {want}");
+            worst = worst.max(want - est);
+            assert_eq!(div_u64_by_u31(n, d), Some(want), "{n} / {d}");
+        }
+        for d in [1u32, 2, 3, (1 << 30) - 1, 1 << 30, (1 << 31) - 1] {
+            for n in [0u64, 1, u64::from(d) - 1, (u64::from(d) << 31) - 1] {
+                let want = u32::try_from(n / u64::from(d)).unwrap();
+                worst = worst.max(want - quotient_estimate(n, d));
+                assert_eq!(div_u64_by_u31(n, d), Some(want), "{n} / {d}");
+            }
+            assert_eq!(div_u64_by_u31(u64::from(d) << 31, d), None);
+        }
+        // Within the fixed corrections, and not loose either (the margin
+        // of two plus a unit or two of truncation).
+        assert!((2..=QUOTIENT_FIXUPS).contains(&worst), "largest correction {worst}");
+    }
+
+    #[test]
+    fn mul_words_is_the_exact_product() {
+        for a in operands() {
+            for b in operands().step_by(13) {
+                let (ua, ub) = (a.unsigned_abs(), b.unsigned_abs());
+                let (hi, lo) = mul_words(ua, ub);
+                assert_eq!((u64::from(hi) << 32) | u64::from(lo), u64::from(ua) * u64::from(ub));
+            }
+        }
+        assert_eq!(mul_words(u32::MAX, u32::MAX), (u32::MAX - 1, 1));
     }
 
     #[test]
