@@ -364,9 +364,8 @@ pub fn arm_roots<M: Machine + ?Sized>(g: &M, arm: usize, p: [f64; 3]) -> Vec<f64
     let lip_w = 1.01 * 2.0 * m.upper_arm * scale * (SEGMENT as f64 * step) + 4.0 * touch_tol;
     let coarse: Vec<f64> = (0..=SEGMENTS).map(|j| sample(j * SEGMENT)).collect();
     let live: Vec<bool> = coarse.windows(2).map(|w| w[0].abs() + w[1].abs() <= lip_w).collect();
-    let examined: Vec<usize> = (0..SEGMENTS)
-        .filter(|&j| live[(j + SEGMENTS - 1) % SEGMENTS] || live[j] || live[(j + 1) % SEGMENTS])
-        .collect();
+    let examined: Vec<usize> =
+        (0..SEGMENTS).filter(|&j| live[(j + SEGMENTS - 1) % SEGMENTS] || live[j] || live[(j + 1) % SEGMENTS]).collect();
     let mut fs = [f64::NAN; IK_SAMPLES + 1];
     for &j in &examined {
         let (first, last) = (j * SEGMENT, (j + 1) * SEGMENT);
