@@ -60,14 +60,24 @@
 //! modes; of the runs that converge, the one with the smaller `z` is kept
 //! (the conventions' lower branch), after checking its residuals.
 //!
-//! Cost: thousands of trigonometric evaluations per call. This is a test
-//! oracle, not a solver.
+//! Cost: the elbows at the samples are computed once per arm and kept
+//! (per thread), so a call costs 4,097 squared distances per arm plus a
+//! few hundred trigonometric evaluations in the searches, and thousands in
+//! forward kinematics. This is a test oracle, not a solver.
 
 use deltakin::{ArmCorrection, Geometry};
 
 /// Samples of the whole circle in the inverse-kinematics root search
 /// (step 2 pi / 4096 = 1.5 mrad).
 pub const IK_SAMPLES: usize = 4096;
+
+/// Samples per segment in the screening of the inverse-kinematics samples
+/// (see [`arm_roots`]): every 16th sample is evaluated first.
+const SEGMENT: usize = 16;
+
+/// Segments of the circle.
+const SEGMENTS: usize = IK_SAMPLES / SEGMENT;
+const _: () = assert!(SEGMENTS * SEGMENT == IK_SAMPLES);
 
 /// Width (rad) to which bisection narrows a root's bracket.
 pub const IK_ROOT_TOL_RAD: f64 = 1e-15;
@@ -184,7 +194,11 @@ fn distance(a: [f64; 3], b: [f64; 3]) -> f64 {
 /// (rad), straight from the conventions (with the arm's own parameters).
 #[must_use]
 pub fn elbow<M: Machine + ?Sized>(g: &M, arm: usize, theta: f64) -> [f64; 3] {
-    let m = g.arm(arm);
+    arm_elbow(&g.arm(arm), theta)
+}
+
+/// [`elbow`] for one arm's own parameters.
+fn arm_elbow(m: &ArmModel, theta: f64) -> [f64; 3] {
     let t = theta + m.joint_offset;
     let local = [m.base_radius + m.upper_arm * t.cos(), 0.0, m.axis_height - m.upper_arm * t.sin()];
     rotate_z(m.azimuth, local)
@@ -218,12 +232,56 @@ fn closes<M: Machine + ?Sized>(g: &M, theta: [f64; 3], p: [f64; 3]) -> bool {
     closure_error(g, theta, p) <= RESIDUAL_REL_TOL * longest_lower_arm(g)
 }
 
+fn squared_distance(e: [f64; 3], joint: [f64; 3]) -> f64 {
+    (e[0] - joint[0]).powi(2) + (e[1] - joint[1]).powi(2) + (e[2] - joint[2]).powi(2)
+}
+
 /// The closure residual of one arm, `|E_i(t) - P_i|^2 - lower_arm_i^2` (mm^2).
 fn residual<M: Machine + ?Sized>(g: &M, arm: usize, t: f64, joint: [f64; 3]) -> f64 {
     let e = elbow(g, arm, t);
-    let d2 = (e[0] - joint[0]).powi(2) + (e[1] - joint[1]).powi(2) + (e[2] - joint[2]).powi(2);
     let l = g.arm(arm).lower_arm;
-    d2 - l * l
+    squared_distance(e, joint) - l * l
+}
+
+/// The step (rad) between the inverse-kinematics samples.
+fn sample_step() -> f64 {
+    2.0 * std::f64::consts::PI / IK_SAMPLES as f64
+}
+
+/// Sample `k` (0..=IK_SAMPLES) of the circle, from -pi.
+fn sample_angle(step: f64, k: usize) -> f64 {
+    -std::f64::consts::PI + step * k as f64
+}
+
+/// Arm models whose sampled elbows a thread keeps (a report uses one
+/// machine, a test a handful).
+const SAMPLE_CACHE_ARMS: usize = 16;
+
+type SampledElbows = std::rc::Rc<Vec<[f64; 3]>>;
+
+thread_local! {
+    static SAMPLE_CACHE: std::cell::RefCell<Vec<(ArmModel, SampledElbows)>> =
+        const { std::cell::RefCell::new(Vec::new()) };
+}
+
+/// The elbow (mm, base frame) of arm `m` at every sample angle, computed
+/// once per arm model and thread and then reused: the samples depend on
+/// the machine alone, not on the platform position.
+fn sampled_elbows(m: &ArmModel) -> SampledElbows {
+    SAMPLE_CACHE.with(|cache| {
+        let mut cache = cache.borrow_mut();
+        if let Some((_, e)) = cache.iter().find(|(k, _)| k == m) {
+            return e.clone();
+        }
+        let step = sample_step();
+        let elbows: SampledElbows =
+            std::rc::Rc::new((0..=IK_SAMPLES).map(|k| arm_elbow(m, sample_angle(step, k))).collect());
+        if cache.len() >= SAMPLE_CACHE_ARMS {
+            cache.remove(0);
+        }
+        cache.push((*m, elbows.clone()));
+        elbows
+    })
 }
 
 /// Bisection of a bracket `[lo, hi]` with `f(lo)` and `f(hi)` of opposite
@@ -282,17 +340,42 @@ fn golden_min(h: &dyn Fn(f64) -> f64, mut lo: f64, mut hi: f64) -> f64 {
 pub fn arm_roots<M: Machine + ?Sized>(g: &M, arm: usize, p: [f64; 3]) -> Vec<f64> {
     let joint = platform_joint(g, arm, p);
     let f = |t: f64| residual(g, arm, t, joint);
-    let step = 2.0 * std::f64::consts::PI / IK_SAMPLES as f64;
-    let ts: Vec<f64> = (0..=IK_SAMPLES).map(|k| -std::f64::consts::PI + step * k as f64).collect();
-    let fs: Vec<f64> = ts.iter().map(|&t| f(t)).collect();
-    // Rounding scale of the residual: squares of lengths of order |E| + |P| + l.
+    let step = sample_step();
     let m = g.arm(arm);
+    // The residual at the samples, from the arm's elbows there (the same
+    // `elbow` evaluation as `f`, done once per arm and kept).
+    let elbows = sampled_elbows(&m);
+    let l2 = m.lower_arm * m.lower_arm;
+    let sample = |k: usize| elbows.get(k).map_or(f64::NAN, |e| squared_distance(*e, joint) - l2);
+    let ts = |k: usize| sample_angle(step, k);
+    // Rounding scale of the residual: squares of lengths of order |E| + |P| + l.
     let scale =
         m.base_radius + m.upper_arm + m.lower_arm + m.axis_height.abs() + joint.iter().map(|v| v.abs()).sum::<f64>();
     let touch_tol = 64.0 * f64::EPSILON * scale * scale;
+    // Which samples can matter, from every SEGMENT-th one: `f' = 2 (E - P)
+    // . dE/dt` and `|dE/dt| = upper_arm`, `|E - P| <= scale`, so `|f'| <=
+    // lip = 2 upper_arm scale`. On a segment of width `w` whose ends have
+    // `|f0| + |f1| > lip w`, `|f| > (|f0| + |f1| - lip w) / 2 > 0`
+    // throughout: no root, no sign change, nothing within the touch
+    // tolerance (the margins below cover rounding). Only the samples of
+    // the other segments and their neighbours are examined, exactly as if
+    // every sample were: the rest could only have run searches that find
+    // nothing.
+    let lip_w = 1.01 * 2.0 * m.upper_arm * scale * (SEGMENT as f64 * step) + 4.0 * touch_tol;
+    let coarse: Vec<f64> = (0..=SEGMENTS).map(|j| sample(j * SEGMENT)).collect();
+    let live: Vec<bool> = coarse.windows(2).map(|w| w[0].abs() + w[1].abs() <= lip_w).collect();
+    let examined: Vec<usize> =
+        (0..SEGMENTS).filter(|&j| live[(j + SEGMENTS - 1) % SEGMENTS] || live[j] || live[(j + 1) % SEGMENTS]).collect();
+    let mut fs = [f64::NAN; IK_SAMPLES + 1];
+    for &j in &examined {
+        let (first, last) = (j * SEGMENT, (j + 1) * SEGMENT);
+        for k in [(first + IK_SAMPLES - 1) % IK_SAMPLES].into_iter().chain(first..=last) {
+            fs[k] = sample(k);
+        }
+    }
     let mut roots = Vec::new();
-    for k in 0..IK_SAMPLES {
-        let (t0, t1, f0, f1) = (ts[k], ts[k + 1], fs[k], fs[k + 1]);
+    for k in examined.iter().flat_map(|&j| j * SEGMENT..(j + 1) * SEGMENT) {
+        let (t0, t1, f0, f1) = (ts(k), ts(k + 1), fs[k], fs[k + 1]);
         if f0 == 0.0 {
             roots.push(t0);
         } else if (f0 < 0.0) != (f1 < 0.0) && f1 != 0.0 {

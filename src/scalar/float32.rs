@@ -11,6 +11,17 @@
 //!
 //! Each kernel is checked against libm's `f64` functions by the unit tests
 //! in this file, which assert the error bounds published here.
+//!
+//! Why no hardware square root (`vsqrt.f32`) on the Cortex-M4F: on the
+//! stable toolchains deltakin builds with (rustup's 1.95, Debian's
+//! `rustc-web` 1.96) `core` has no `f32` square root (the inherent
+//! `f32::sqrt` is std's; `core::f32::math::sqrt` is unstable, feature
+//! `core_float_math`, rust-lang/rust#137578), libm 0.2.16 picks a hardware
+//! square root only for x86 with SSE2, AArch64 with NEON and wasm32 (on
+//! `thumbv7em` its `sqrtf` is the software routine), and emitting the
+//! instruction directly needs inline assembly, which `forbid(unsafe_code)`
+//! rules out. So no route exists on stable without unsafe code; once
+//! `core_float_math` is stable, [`sqrt_f32`]'s callers can switch.
 
 use super::{Arith, Real};
 
