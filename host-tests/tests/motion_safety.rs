@@ -6,7 +6,7 @@
 //! by sampling the path between setpoints.
 
 use deltakin::motion::{
-    Bounds, JOINT_ROUNDING_RAD, JointRateLimits, Law, MotionError, MotionFault, Move, PlannedMove, Stream,
+    Bounds, JointRateLimits, Law, MotionError, MotionFault, Move, PlannedMove, Stream, joint_rounding_rad,
 };
 use std::cell::Cell;
 
@@ -67,10 +67,19 @@ fn drain<S: Real>(stream: &mut Stream<S, 2, f32>, start_joints: [f64; 3]) -> Vec
 }
 
 /// Checks the emitted joints: each step within the speed limit, each
-/// step within `accel * T / 2 + 2 * rounding / T` of the mean of the two
-/// rates it lies between (what a servo following the setpoints sees is
-/// what the rates say).
-fn assert_steps_within_limits(rows: &[([f64; 3], [f64; 3], [f64; 3])], period: f64, lim: &JointRateLimits<f32>) {
+/// step one that a joint within the acceleration limit `A` can make
+/// between the two rates it lies between: within
+/// `(A T / 4) (1 - u^2) + 2 e / T` of their mean, `u` the rate change
+/// over `A T` and `e` the joint rounding of the type (the exact bound of
+/// `deltakin::motion::check`, re-derived here: the rate's envelopes
+/// `w0 + A t` and `w1 + A (T - t)` meet at the peak; what a servo
+/// following the setpoints sees is what the rates say).
+fn assert_steps_within_limits<S: Real>(
+    rows: &[([f64; 3], [f64; 3], [f64; 3])],
+    period: f64,
+    lim: &JointRateLimits<f32>,
+) {
+    let rounding = joint_rounding_rad::<S>();
     for (k, w) in rows.windows(2).enumerate() {
         let ((_, q0, w0), (_, q1, w1)) = (w[0], w[1]);
         for arm in 0..3 {
@@ -79,7 +88,8 @@ fn assert_steps_within_limits(rows: &[([f64; 3], [f64; 3], [f64; 3])], period: f
             let amax = f64::from(lim.accel[arm]);
             assert!(step.abs() <= vmax * (1.0 + RECHECK_REL), "cycle {k} arm {arm}: step {step} rad/s");
             let gap = (step - 0.5 * (w0[arm] + w1[arm])).abs();
-            let allowed = (0.5 * amax * period + 2.0 * JOINT_ROUNDING_RAD / period) * (1.0 + RECHECK_REL);
+            let u = ((w1[arm] - w0[arm]).abs() / (amax * period)).min(1.0);
+            let allowed = (0.25 * amax * period * (1.0 - u * u) + 2.0 * rounding / period) * (1.0 + RECHECK_REL);
             assert!(gap <= allowed, "cycle {k} arm {arm}: step {step} against rates {} {}", w0[arm], w1[arm]);
         }
     }
@@ -111,7 +121,7 @@ fn short_move_is_refused_or_slowed<S: Real>(mv: &Move<f32>) {
             let q0 = demo::<S>().inverse(wide::<S>(start)).expect("start").joints.map(|v| v.to_f64());
             let rows = drain(&mut stream, q0);
             assert!(rows.len() > 2, "a slowed move lasts more than one cycle");
-            assert_steps_within_limits(&rows, 2.5e-4, &lim);
+            assert_steps_within_limits::<S>(&rows, 2.5e-4, &lim);
         }
     }
 }
@@ -153,7 +163,7 @@ fn a_tiny_fast_move_is_slowed_to_the_joint_limits_not_jumped() {
         let q0 = demo::<f32>().inverse([0.0, 0.0, -700.0]).expect("start").joints.map(f64::from);
         let rows = drain(&mut stream, q0);
         assert!(rows.len() > 3, "the move was slowed over several cycles ({} rows)", rows.len());
-        assert_steps_within_limits(&rows, f64::from(period), &lim);
+        assert_steps_within_limits::<f32>(&rows, f64::from(period), &lim);
     }
 }
 
@@ -247,7 +257,7 @@ fn the_pick_cycle_keeps_the_tool_acceleration_within_its_bound() {
     let bound = f64::from(accel);
     assert!(peak <= bound + TOOL_ACCEL_NOISE, "tool acceleration {peak} mm/s^2");
     assert!(peak >= TOOL_ACCEL_BINDING * bound, "the bound binds: peak {peak} mm/s^2");
-    assert_steps_within_limits(&rows, 2.5e-4, &lim);
+    assert_steps_within_limits::<f64>(&rows, 2.5e-4, &lim);
 }
 
 #[test]
