@@ -167,6 +167,55 @@ fn a_tiny_fast_move_is_slowed_to_the_joint_limits_not_jumped() {
     }
 }
 
+/// The fuzz finding `ci/fuzz/regressions/one-cycle-line-jumps-the-joints`
+/// (f32, 500 Hz, joint limits 1 rad/s and 20 rad/s^2): a line so short and
+/// fast that it lasts one cycle, whose step of 6e-5 rad between two rests
+/// needs about 60 rad/s^2. The old allowance (`A T / 2` plus a flat
+/// rounding) let it through; a joint within 20 rad/s^2 moves at most
+/// `A T^2 / 4 = 2e-5 rad` between two rests, so it is slowed (or refused).
+#[test]
+fn a_one_cycle_step_past_the_rest_to_rest_acceleration_bound_is_slowed() {
+    use deltakin::Geometry;
+    use deltakin::Limits;
+    use deltakin_harness::contract::Contract;
+    let robot = Robot::<f32>::new(
+        Geometry { base_radius: 42823.492, platform_radius: 93182.555, upper_arm: 2724.4548, lower_arm: 51015.277 },
+        Limits {
+            joint_min: [2.3510803e-38, 9.1837e-41, 2.603241e-29],
+            joint_max: [3.0039215; 3],
+            passive_cone: 0.6953163,
+            min_serial_margin: 1e-45,
+            min_parallel_margin: 0.0,
+        },
+    )
+    .expect("the fuzzed machine is admitted");
+    let (period, lim) = (2.0e-3f32, JointRateLimits { speed: [1.0f32; 3], accel: [20.0f32; 3] });
+    let start = [4.627648e-41f32, 3.0517578e-5, 4.3921376e-5];
+    let mv = Move::Line {
+        to: [2.3510607e-38, 1.5046328e-36, 3.00391],
+        law: Law::Poly7,
+        bounds: Bounds { speed: 9.965484e17, accel: 9.96938e17, jerk: 9.96938e17 },
+    };
+    let mut stream: Stream<f32, 2, f32> = Stream::new(robot, period, lim, start).expect("start");
+    match stream.push(&mv) {
+        Err(e) => assert!(matches!(e.fault, MotionFault::JointAccel { .. } | MotionFault::JointSpeed { .. }), "{e}"),
+        Ok(acc) => {
+            assert!(acc.cycles > 1, "slowed past one cycle");
+            let q0 = robot.inverse(start).expect("start").joints;
+            let limits_f64 = JointRateLimits { speed: [1.0; 3], accel: [20.0; 3] };
+            let mut contract = Contract::new(robot, f64::from(period), &limits_f64, q0);
+            let mut rows = vec![([f64::NAN; 3], q0.map(f64::from), [0.0; 3])];
+            while let Some(s) = stream.next_setpoint().expect("validated move streams") {
+                contract.check(&s.setpoint).unwrap_or_else(|v| panic!("{v}"));
+                let sp = s.setpoint;
+                rows.push((sp.position.map(f64::from), sp.joints.map(f64::from), sp.joint_rates.map(f64::from)));
+            }
+            contract.finish().unwrap_or_else(|v| panic!("{v}"));
+            assert_steps_within_limits::<f32>(&rows, f64::from(period), &lim);
+        }
+    }
+}
+
 /// The line of the joint-minimum reproducer (demo robot): its samples at
 /// 4 kHz all keep theta1 above -35 degrees, the path between two of them
 /// does not.
