@@ -23,8 +23,11 @@
 //! 3. **Joint acceleration.** `|w_k - w_{k-1}| / T <= A` and
 //!    `|theta_{k+1} - 2 theta_k + theta_{k-1}| / T^2 <= A`.
 //! 4. **Consistency.** `|(theta_k - theta_{k-1}) / T - (w_k + w_{k-1}) / 2|
-//!    <= CONSISTENCY_FACTOR * A * T`: the rates are the derivative of
-//!    the joints.
+//!    <= CONSISTENCY_FACTOR * A * T + 2 e / T`: the rates are the
+//!    derivative of the joints. `A T / 4` is the exact bound for a rate
+//!    whose change stays within `A` (reached between two rests); `e` is
+//!    the documented joint accuracy of the type ([`Rounding::JOINT_NOISE`]),
+//!    which the stream may not tell apart from motion.
 //!
 //! # Tolerances
 //! * [`LIMIT_ROUNDING_REL`] on every limit: the stream compares in its
@@ -50,10 +53,8 @@
 //!   bounded by `V` at two samples and changing by at most `A` between
 //!   them averages at most `V + A T / 4` over the period, and its
 //!   integral differs from the trapezoid estimate `T (w_k + w_{k-1}) / 2`
-//!   by at most `A T^2 / 4`. [`CONSISTENCY_FACTOR`] is twice that `1/4`,
-//!   because the acceleration between samples is bounded only through
-//!   the sampled differences; the same `A T / 4` (times the factor) is
-//!   allowed on the first differences. A real fault (a joint that jumps
+//!   by at most `A T^2 / 4`: [`CONSISTENCY_FACTOR`] is that `1/4`; the
+//!   same `A T / 4` is allowed on the first differences. A real fault (a joint that jumps
 //!   in one cycle, a rate of the wrong sign or scale) is orders of
 //!   magnitude beyond these.
 
@@ -71,8 +72,9 @@ pub const LIMIT_ROUNDING_REL: f64 = 1e-6;
 const RATE_TO_PLANNING_REL: f64 = 1.0 / 16_777_216.0;
 
 /// Bound on the trapezoid-rule error of the joint angles, in units of
-/// `A * T` (see the module docs: `1/4` from the mean-value bound, doubled).
-pub const CONSISTENCY_FACTOR: f64 = 0.5;
+/// `A * T` (see the module docs: exact for a rate changing by at most `A`
+/// per second, reached between two rests).
+pub const CONSISTENCY_FACTOR: f64 = 0.25;
 
 /// How precisely a number type's setpoints can be re-checked.
 pub trait Rounding: Real {
@@ -345,7 +347,9 @@ impl<S: Rounding> Contract<S> {
                 return err(Broken::Speed { from: "joint difference", value: diff.abs(), allowed: diff_allowed });
             }
             let mean = 0.5 * (w + l.rates[arm]);
-            let gap_allowed = sampling + noise1 + mean.abs() * LIMIT_ROUNDING_REL;
+            let rounding = 2.0 * S::JOINT_NOISE / t;
+            let gap_allowed =
+                (sampling + rounding.max(noise1)) * (1.0 + LIMIT_ROUNDING_REL) + mean.abs() * LIMIT_ROUNDING_REL;
             if !within((diff - mean).abs(), gap_allowed) {
                 return err(Broken::Inconsistent { difference: diff, mean_rate: mean, allowed: gap_allowed });
             }

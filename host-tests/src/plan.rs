@@ -312,6 +312,11 @@ pub struct Summary {
     pub peak_accel_deg_s2: [f64; 3],
     /// Joint acceleration limits (deg/s^2).
     pub accel_limit_deg_s2: [f64; 3],
+    /// The largest tool-acceleration usage of any Cartesian move (the
+    /// magnitude of the tool's acceleration over that move's own
+    /// `accel_mm_s2` bound, as validated) and the move's index; `None`
+    /// when no move has a Cartesian bound.
+    pub peak_tool_accel: Option<(usize, f64)>,
     /// Moves that were slowed down: (index, time stretch).
     pub time_scaled: Vec<(usize, f64)>,
     /// Lines joined to the line before them through their corner (index).
@@ -340,6 +345,14 @@ impl fmt::Display for Summary {
                 self.accel_limit_deg_s2[arm],
                 100.0 * self.peak_accel_deg_s2[arm] / self.accel_limit_deg_s2[arm],
             )?;
+        }
+        match self.peak_tool_accel {
+            Some((index, usage)) => writeln!(
+                f,
+                "  tool: peak accel {:5.1} % of its move's accel_mm_s2 (move {index}; tangential and centripetal together)",
+                100.0 * usage
+            )?,
+            None => writeln!(f, "  tool: no Cartesian move")?,
         }
         if self.joined.is_empty() {
             writeln!(f, "  corners joined: none")?;
@@ -576,6 +589,7 @@ pub fn plan_with<S: Real, P: Real<Wide = P>>(
         speed_limit_deg_s: moves.joint_limits.speed_deg_s.values(),
         peak_accel_deg_s2: [0.0; 3],
         accel_limit_deg_s2: moves.joint_limits.accel_deg_s2.values(),
+        peak_tool_accel: None,
         time_scaled: Vec::new(),
         joined: Vec::new(),
     };
@@ -591,6 +605,10 @@ pub fn plan_with<S: Real, P: Real<Wide = P>>(
             })?;
             if accepted.joined {
                 summary.joined.push(next);
+            }
+            let tool = accepted.tool_accel_usage.to_f64();
+            if tool > summary.peak_tool_accel.map_or(0.0, |(_, u)| u) {
+                summary.peak_tool_accel = Some((next, tool));
             }
             if accepted.time_scaled {
                 summary.time_scaled.push((next, accepted.stretch.to_f64()));

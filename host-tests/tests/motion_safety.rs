@@ -6,7 +6,7 @@
 //! by sampling the path between setpoints.
 
 use deltakin::motion::{
-    Bounds, JOINT_ROUNDING_RAD, JointRateLimits, Law, MotionError, MotionFault, Move, PlannedMove, Stream,
+    Bounds, JointRateLimits, Law, MotionError, MotionFault, Move, PlannedMove, Stream, joint_rounding_rad,
 };
 use std::cell::Cell;
 
@@ -67,10 +67,19 @@ fn drain<S: Real>(stream: &mut Stream<S, 2, f32>, start_joints: [f64; 3]) -> Vec
 }
 
 /// Checks the emitted joints: each step within the speed limit, each
-/// step within `accel * T / 2 + 2 * rounding / T` of the mean of the two
-/// rates it lies between (what a servo following the setpoints sees is
-/// what the rates say).
-fn assert_steps_within_limits(rows: &[([f64; 3], [f64; 3], [f64; 3])], period: f64, lim: &JointRateLimits<f32>) {
+/// step one that a joint within the acceleration limit `A` can make
+/// between the two rates it lies between: within
+/// `(A T / 4) (1 - u^2) + 2 e / T` of their mean, `u` the rate change
+/// over `A T` and `e` the joint rounding of the type (the exact bound of
+/// `deltakin::motion::check`, re-derived here: the rate's envelopes
+/// `w0 + A t` and `w1 + A (T - t)` meet at the peak; what a servo
+/// following the setpoints sees is what the rates say).
+fn assert_steps_within_limits<S: Real>(
+    rows: &[([f64; 3], [f64; 3], [f64; 3])],
+    period: f64,
+    lim: &JointRateLimits<f32>,
+) {
+    let rounding = joint_rounding_rad::<S>();
     for (k, w) in rows.windows(2).enumerate() {
         let ((_, q0, w0), (_, q1, w1)) = (w[0], w[1]);
         for arm in 0..3 {
@@ -79,7 +88,8 @@ fn assert_steps_within_limits(rows: &[([f64; 3], [f64; 3], [f64; 3])], period: f
             let amax = f64::from(lim.accel[arm]);
             assert!(step.abs() <= vmax * (1.0 + RECHECK_REL), "cycle {k} arm {arm}: step {step} rad/s");
             let gap = (step - 0.5 * (w0[arm] + w1[arm])).abs();
-            let allowed = (0.5 * amax * period + 2.0 * JOINT_ROUNDING_RAD / period) * (1.0 + RECHECK_REL);
+            let u = ((w1[arm] - w0[arm]).abs() / (amax * period)).min(1.0);
+            let allowed = (0.25 * amax * period * (1.0 - u * u) + 2.0 * rounding / period) * (1.0 + RECHECK_REL);
             assert!(gap <= allowed, "cycle {k} arm {arm}: step {step} against rates {} {}", w0[arm], w1[arm]);
         }
     }
@@ -111,7 +121,7 @@ fn short_move_is_refused_or_slowed<S: Real>(mv: &Move<f32>) {
             let q0 = demo::<S>().inverse(wide::<S>(start)).expect("start").joints.map(|v| v.to_f64());
             let rows = drain(&mut stream, q0);
             assert!(rows.len() > 2, "a slowed move lasts more than one cycle");
-            assert_steps_within_limits(&rows, 2.5e-4, &lim);
+            assert_steps_within_limits::<S>(&rows, 2.5e-4, &lim);
         }
     }
 }
@@ -153,7 +163,56 @@ fn a_tiny_fast_move_is_slowed_to_the_joint_limits_not_jumped() {
         let q0 = demo::<f32>().inverse([0.0, 0.0, -700.0]).expect("start").joints.map(f64::from);
         let rows = drain(&mut stream, q0);
         assert!(rows.len() > 3, "the move was slowed over several cycles ({} rows)", rows.len());
-        assert_steps_within_limits(&rows, f64::from(period), &lim);
+        assert_steps_within_limits::<f32>(&rows, f64::from(period), &lim);
+    }
+}
+
+/// The fuzz finding `ci/fuzz/regressions/one-cycle-line-jumps-the-joints`
+/// (f32, 500 Hz, joint limits 1 rad/s and 20 rad/s^2): a line so short and
+/// fast that it lasts one cycle, whose step of 6e-5 rad between two rests
+/// needs about 60 rad/s^2. The old allowance (`A T / 2` plus a flat
+/// rounding) let it through; a joint within 20 rad/s^2 moves at most
+/// `A T^2 / 4 = 2e-5 rad` between two rests, so it is slowed (or refused).
+#[test]
+fn a_one_cycle_step_past_the_rest_to_rest_acceleration_bound_is_slowed() {
+    use deltakin::Geometry;
+    use deltakin::Limits;
+    use deltakin_harness::contract::Contract;
+    let robot = Robot::<f32>::new(
+        Geometry { base_radius: 42823.492, platform_radius: 93182.555, upper_arm: 2724.4548, lower_arm: 51015.277 },
+        Limits {
+            joint_min: [2.3510803e-38, 9.1837e-41, 2.603241e-29],
+            joint_max: [3.0039215; 3],
+            passive_cone: 0.6953163,
+            min_serial_margin: 1e-45,
+            min_parallel_margin: 0.0,
+        },
+    )
+    .expect("the fuzzed machine is admitted");
+    let (period, lim) = (2.0e-3f32, JointRateLimits { speed: [1.0f32; 3], accel: [20.0f32; 3] });
+    let start = [4.627648e-41f32, 3.0517578e-5, 4.3921376e-5];
+    let mv = Move::Line {
+        to: [2.3510607e-38, 1.5046328e-36, 3.00391],
+        law: Law::Poly7,
+        bounds: Bounds { speed: 9.965484e17, accel: 9.96938e17, jerk: 9.96938e17 },
+    };
+    let mut stream: Stream<f32, 2, f32> = Stream::new(robot, period, lim, start).expect("start");
+    match stream.push(&mv) {
+        Err(e) => assert!(matches!(e.fault, MotionFault::JointAccel { .. } | MotionFault::JointSpeed { .. }), "{e}"),
+        Ok(acc) => {
+            assert!(acc.cycles > 1, "slowed past one cycle");
+            let q0 = robot.inverse(start).expect("start").joints;
+            let limits_f64 = JointRateLimits { speed: [1.0; 3], accel: [20.0; 3] };
+            let mut contract = Contract::new(robot, f64::from(period), &limits_f64, q0);
+            let mut rows = vec![([f64::NAN; 3], q0.map(f64::from), [0.0; 3])];
+            while let Some(s) = stream.next_setpoint().expect("validated move streams") {
+                contract.check(&s.setpoint).unwrap_or_else(|v| panic!("{v}"));
+                let sp = s.setpoint;
+                rows.push((sp.position.map(f64::from), sp.joints.map(f64::from), sp.joint_rates.map(f64::from)));
+            }
+            contract.finish().unwrap_or_else(|v| panic!("{v}"));
+            assert_steps_within_limits::<f32>(&rows, f64::from(period), &lim);
+        }
     }
 }
 
@@ -247,7 +306,7 @@ fn the_pick_cycle_keeps_the_tool_acceleration_within_its_bound() {
     let bound = f64::from(accel);
     assert!(peak <= bound + TOOL_ACCEL_NOISE, "tool acceleration {peak} mm/s^2");
     assert!(peak >= TOOL_ACCEL_BINDING * bound, "the bound binds: peak {peak} mm/s^2");
-    assert_steps_within_limits(&rows, 2.5e-4, &lim);
+    assert_steps_within_limits::<f64>(&rows, 2.5e-4, &lim);
 }
 
 #[test]

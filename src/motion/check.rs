@@ -23,11 +23,10 @@
 //!   than a cycle has zero rates at its one sample, but not a zero step).
 //! * **Joint acceleration**: the change of successive samples' Jacobian
 //!   rates over the period (what a servo following the setpoints sees),
-//!   starting and ending at rest; and the step must agree with the mean of
-//!   its two rates to within `accel * period / 2` plus
-//!   [`JOINT_ROUNDING_RAD`] twice over the period (a trajectory whose
-//!   acceleration stays within `accel` differs by at most
-//!   `accel * period / 4`), counted as acceleration usage.
+//!   starting and ending at rest; and the step must be one that a joint
+//!   whose acceleration stays within the limit can make with those rates
+//!   at its two ends (see [Step consistency](#step-consistency)), counted
+//!   as acceleration usage.
 //! * **Tool acceleration** (Cartesian moves): the magnitude of the tool's
 //!   acceleration, `sqrt(a_t^2 + (v^2 kappa)^2)` with the law's tangential
 //!   acceleration `a_t` and speed `v` (the larger of the cycle's two ends)
@@ -36,13 +35,44 @@
 //!
 //! When a speed or acceleration exceeds its limit the move is stretched
 //! in time by
-//! `r = max(speed usage, sqrt(acceleration usage), sqrt(tool usage)) * (1 + 1/256)`:
+//! `r = max(speed usage, sqrt(acceleration usage), sqrt(tool usage)) * (1 + h)`,
+//! `h` = 1/256 on the first pass, 1/32 on the second, 1/4 on the third:
 //! speeds scale by `1/r` and accelerations by `1/r^2`, so one pass nearly
-//! always suffices; sampling changes slightly with the stretch, so the
-//! stretched move is checked again, for at most [`TIME_SCALING_PASSES`]
+//! always suffices; sampling changes with the stretch (a peak narrower
+//! than a cycle is averaged differently), so the stretched move is
+//! checked again, for at most [`TIME_SCALING_PASSES`]
 //! passes. A move that still exceeds a limit, or would need a stretch
 //! beyond [`MAX_TIME_STRETCH`], is rejected with the first offending
 //! cycle, arm and limit of the last pass.
+//!
+//! # Step consistency
+//! Between two setpoints `T` seconds apart a joint moves by `q T` (`q`
+//! the step over the period, rad/s) with rates `w0` and `w1` at the two
+//! ends. If its rate `w(t)` changes by at most `A` per second
+//! (`|w'| <= A`) on the way, then `w(t) <= min(w0 + A t, w1 + A (T - t))`
+//! and `w(t) >= max(w0 - A t, w1 - A (T - t))`; integrating these two
+//! envelopes, the step can differ from the trapezoid `(w0 + w1) / 2` by at
+//! most
+//!
+//! `gap_max = (A T / 4) (1 - u^2)`, with `u = |w1 - w0| / (A T) <= 1`,
+//!
+//! and every value in between is reached by some rate within the limit
+//! (the two envelopes and their convex combinations). So
+//! `|q - (w0 + w1) / 2| <= gap_max` holds exactly when a joint motion
+//! within the acceleration limit passes through both setpoints with both
+//! rates: the check is necessary and sufficient, the worst case
+//! (`A T / 4`) being a step between two rests. It is counted as the
+//! usage `u^2 + gap / (A T / 4)`, which is at most 1 exactly then (and at
+//! least `u^2`: the rate difference is checked on its own too).
+//!
+//! The setpoints are rounded: each joint angle is within the inverse
+//! kinematics' accuracy bound `e` of the number type (see
+//! [`joint_rounding_rad`]) of the exact angle, so a step may differ from
+//! the exact one by `2 e`; the gap is reduced by `2 e / T` before it is
+//! compared. The guarantee is therefore: joint angles within `e` of the
+//! emitted ones are passed through, with the emitted rates, by a motion
+//! within the acceleration limit. A jump larger than the arithmetic's own
+//! accuracy cannot pass.
 //!
 //! # Cost
 //! At most `TIME_SCALING_PASSES x (cycles + 1)` samples, `cycles <=`
@@ -73,14 +103,58 @@ pub const MAX_TIME_STRETCH: f64 = 64.0;
 /// Most validation passes per move (the first at the requested speed).
 pub const TIME_SCALING_PASSES: usize = 4;
 
-/// Rounding allowed on each setpoint's joint angles (rad) when its step is
-/// compared with its rates: twice the fixed-point inverse kinematics'
-/// documented bound (5e-6 rad), twenty times f32's measured worst.
-pub const JOINT_ROUNDING_RAD: f64 = 1.0e-5;
+/// Documented accuracy bound (rad) of the `f64` inverse kinematics' joint
+/// angles (measured worst 8.4e-15 rad against the independent reference).
+pub const JOINT_ROUNDING_F64_RAD: f64 = 1.0e-13;
+/// Documented accuracy bound (rad) of the `f32` inverse kinematics' joint
+/// angles (measured worst 3.8e-6 rad near the serial margin of 0.1).
+pub const JOINT_ROUNDING_F32_RAD: f64 = 1.0e-5;
+/// Documented accuracy bound (rad) of the fixed-point inverse kinematics'
+/// joint angles (the 5 urad target over the admitted envelope).
+pub const JOINT_ROUNDING_FIXED_RAD: f64 = 5.0e-6;
+
+/// The accuracy bound (rad) of a setpoint's joint angles computed in `S`:
+/// the documented bound of its inverse kinematics, told apart by the
+/// type's resolution near 1 (no type tag is needed): a type that cannot
+/// hold `2^-30` is fixed point (LSB `2^-25`,
+/// [`JOINT_ROUNDING_FIXED_RAD`]); one for which `1 + 2^-30` rounds to 1
+/// has a 24-bit significand ([`JOINT_ROUNDING_F32_RAD`]); finer types get
+/// [`JOINT_ROUNDING_F64_RAD`].
+///
+/// The bounds are the worst errors measured against the independent
+/// reference with headroom (`host-tests/src/bounds.rs`), over the robots
+/// each type serves.
+///
+/// # Panics
+/// Never.
+#[must_use]
+pub fn joint_rounding_rad<S: Arith>() -> f64 {
+    let tiny = 1.0 / f64::from(1u32 << 30);
+    match S::from_f64(tiny) {
+        Some(t) if t.to_f64() > 0.0 => {
+            if (S::ONE + t).to_f64() > 1.0 {
+                JOINT_ROUNDING_F64_RAD
+            } else {
+                JOINT_ROUNDING_F32_RAD
+            }
+        }
+        _ => JOINT_ROUNDING_FIXED_RAD,
+    }
+}
 
 /// Extra stretch added on top of the measured need, so that sampling
-/// changes do not leave the move a hair over its limits.
-const TIME_SCALING_HEADROOM: f64 = 1.0 + 1.0 / 256.0;
+/// changes do not leave the move a hair over its limits; it grows by
+/// [`TIME_SCALING_HEADROOM_GROWTH`] on every further pass.
+const TIME_SCALING_HEADROOM: f64 = 1.0 / 256.0;
+
+/// How much the headroom grows per pass. A peak of acceleration narrower
+/// than a cycle (a law's acceleration step where a blend arc ends, say) is
+/// sampled as part of a cycle's average, so the usage a pass measures
+/// there can under-state what the stretched move will show, and a fixed
+/// headroom then creeps up on the limit pass after pass. Growing it (1/256,
+/// 1/32, 1/4) makes the last passes decisive; moves that pass at once
+/// or after one stretch are not slowed more than before.
+const TIME_SCALING_HEADROOM_GROWTH: f64 = 8.0;
 
 /// Joint speed (rad/s) and acceleration (rad/s^2) limits of each arm.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -98,9 +172,13 @@ pub(crate) struct Checker<P> {
     rate: P,
     inv_speed: [P; 3],
     inv_accel: [P; 3],
-    /// `1 /` the largest gap allowed between a setpoint's step and the
-    /// mean of its two Jacobian rates (rad/s), per arm.
+    /// `1 / (accel * period / 4)`: the largest gap between a setpoint's
+    /// step and the mean of its two Jacobian rates between two rests
+    /// (rad/s), per arm.
     inv_step_gap: [P; 3],
+    /// Twice the joint-angle rounding of the stream's type over the
+    /// period (rad/s): subtracted from each gap.
+    rounding: P,
     /// The robot's dimensions and limits, for the guards between samples.
     reach: Reach<P>,
 }
@@ -123,15 +201,16 @@ impl<P: Real> Checker<P> {
     pub(crate) fn new<S: Real>(robot: &Robot<S>, period: P, limits: &JointRateLimits<P>) -> Result<Self, MotionError> {
         let period = positive(period)?;
         let rate = div(P::ONE, period)?;
-        let rounding = constant::<P>(2.0 * JOINT_ROUNDING_RAD)? * rate;
+        let rounding = constant::<P>(2.0 * joint_rounding_rad::<S>())? * rate;
         let accel = [positive(limits.accel[0])?, positive(limits.accel[1])?, positive(limits.accel[2])?];
-        let gap = accel.map(|a| a * period * P::HALF + rounding);
+        let gap = accel.map(|a| a * period * P::HALF * P::HALF);
         Ok(Self {
             period,
             rate,
             inv_speed: inverse3(limits.speed)?,
             inv_accel: inverse3(accel)?,
             inv_step_gap: inverse3(gap)?,
+            rounding,
             reach: Reach::new(robot)?,
         })
     }
@@ -219,15 +298,12 @@ impl<P: Real> Tool<P> {
 /// step from the previous setpoint divided by the period (what the servo
 /// sees: a move shorter than a cycle has zero rates at its one setpoint,
 /// but not a zero step). Joint acceleration is the change of the Jacobian
-/// rates over the period; and the step must agree with the mean of the
-/// two rates it lies between to within `accel * period / 2` plus
-/// [`JOINT_ROUNDING_RAD`] twice over the period (a trajectory whose
-/// acceleration stays within `accel` differs by at most `accel * period
-/// / 4`: the mean of a Lipschitz rate against its trapezoid average),
-/// counted as acceleration usage, so that setpoints that jump further
-/// than their rates say are slowed down or refused like any other
-/// acceleration. The platform is at rest before the first and after the
-/// last setpoint.
+/// rates over the period; and the step must be one a joint within the
+/// acceleration limit can make between the two rates (see the module
+/// docs, Step consistency), counted as acceleration usage, so that
+/// setpoints that jump further than their rates say are slowed down or
+/// refused like any other acceleration. The platform is at rest before
+/// the first and after the last setpoint.
 fn scan<S: Real, P: Real<Wide = P>>(
     robot: &Robot<S>,
     checker: &Checker<P>,
@@ -319,8 +395,12 @@ fn joint_usage<P: Real>(checker: &Checker<P>, rates: [P; 3], prev_rates: [P; 3],
         let (w, w0, q) = (get(&rates), get(&prev_rates), get(&step));
         let speed = w.abs().max_of(q.abs()) * get(&checker.inv_speed);
         let accel = (w - w0).abs() * checker.rate * get(&checker.inv_accel);
-        let gap = (q - (w + w0) * P::HALF).abs() * get(&checker.inv_step_gap);
-        *slot = (speed, accel.max_of(gap));
+        // Step consistency (module docs): u^2 + gap / (A T / 4) <= 1, the
+        // gap less the rounding of the two setpoints.
+        let gap = ((q - (w + w0) * P::HALF).abs() - checker.rounding).max_of(P::ZERO) * get(&checker.inv_step_gap);
+        // (u past 1 is over already, and scaled as an acceleration.)
+        let u = accel.min_of(P::ONE);
+        *slot = (speed, accel.max_of(u * u + gap));
     }
     usage
 }
@@ -411,7 +491,7 @@ pub(crate) fn validate<S: Real, P: Real<Wide = P>>(
     start: [S::Wide; 3],
     start_joints: [S; 3],
 ) -> Result<PlannedMove<S, P>, MotionError> {
-    let headroom = constant::<P>(TIME_SCALING_HEADROOM)?;
+    let mut headroom = TIME_SCALING_HEADROOM;
     let max_stretch = constant::<P>(MAX_TIME_STRETCH)?;
     let mut stretch = P::ONE;
     let mut refusal = MotionError::before_sampling(MotionFault::TooLong);
@@ -437,7 +517,8 @@ pub(crate) fn validate<S: Real, P: Real<Wide = P>>(
         refusal = over;
         let need = found.speed.max_of(found.accel.sqrt()).max_of(found.tool.sqrt());
         // The stretch actually streamed (rounded up to whole cycles).
-        let next = planned.stretch * need * headroom;
+        let next = planned.stretch * need * constant::<P>(1.0 + headroom)?;
+        headroom *= TIME_SCALING_HEADROOM_GROWTH;
         if !(next <= max_stretch) {
             break;
         }

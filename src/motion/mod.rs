@@ -67,7 +67,10 @@ mod path;
 mod stream;
 
 pub use between::{TRAVEL_FLOOR_MM, TRAVEL_FLOOR_RAD, TRAVEL_SLACK};
-pub use check::{JOINT_ROUNDING_RAD, JointRateLimits, MAX_MOVE_CYCLES, MAX_TIME_STRETCH, TIME_SCALING_PASSES};
+pub use check::{
+    JOINT_ROUNDING_F32_RAD, JOINT_ROUNDING_F64_RAD, JOINT_ROUNDING_FIXED_RAD, JointRateLimits, MAX_MOVE_CYCLES,
+    MAX_TIME_STRETCH, TIME_SCALING_PASSES, joint_rounding_rad,
+};
 pub use error::{MotionError, MotionFault, MoveFault};
 pub use law::{Bounds, Law, LawSample, Profile};
 pub use moves::{COLLINEAR_TURN, MAX_CORNER_RADIUS, MIN_CORNER_RADIUS, Move, PlannedMove, Setpoint};
