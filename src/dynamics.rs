@@ -77,6 +77,7 @@ pub const GRAVITY_MM_S2: f64 = 9806.65;
 /// Which dynamics parameter a [`Error::InvalidDynamics`] names.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 #[non_exhaustive]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub enum DynamicsParameter {
     /// Upper arm mass negative or not finite.
     UpperArmMass,
@@ -122,6 +123,8 @@ impl fmt::Display for DynamicsParameter {
 
 /// The physical parameters, as a user gives them (`f64`, kg / mm / N*mm).
 #[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+#[cfg_attr(feature = "serde", serde(deny_unknown_fields))]
 pub struct DynamicsParams {
     /// Mass of each upper arm, kg.
     pub upper_arm_mass: [f64; 3],

@@ -5,6 +5,7 @@ use core::fmt;
 /// Which input argument held a non-finite number.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 #[non_exhaustive]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub enum Input {
     /// A Cartesian target or position (mm).
     Position,
@@ -20,6 +21,7 @@ pub enum Input {
 
 /// Which end of a joint range was crossed.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub enum Bound {
     /// Below the minimum.
     Min,
@@ -29,6 +31,7 @@ pub enum Bound {
 
 /// Which end of a lower arm a passive (ball or universal) joint sits at.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub enum JointEnd {
     /// At the elbow, on the upper arm.
     Elbow,
@@ -39,6 +42,7 @@ pub enum JointEnd {
 /// Why a geometry or a set of limits cannot describe a buildable machine.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 #[non_exhaustive]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub enum ConfigFault {
     /// A dimension or limit is NaN or infinite.
     NonFinite,
@@ -71,6 +75,7 @@ pub enum ConfigFault {
 /// [`crate::ArmCorrection`], whose fields these name).
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 #[non_exhaustive]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub enum ArmParameter {
     /// The joint zero offset.
     JointOffset,
@@ -110,6 +115,7 @@ impl ArmParameter {
 /// sits at azimuth `120 deg * i`).
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 #[non_exhaustive]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub enum Error {
     /// An input held NaN or an infinity.
     NonFinite {

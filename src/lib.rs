@@ -23,6 +23,10 @@ mod robot;
 pub mod scalar;
 mod solution;
 mod solve;
+#[cfg(feature = "defmt")]
+mod with_defmt;
+#[cfg(feature = "serde")]
+mod with_serde;
 
 pub use dynamics::{Dynamics, DynamicsParameter, DynamicsParams};
 pub use error::{ArmParameter, Bound, ConfigFault, Error, Input, JointEnd};

@@ -26,6 +26,12 @@ pub const MIN_DIMENSION_MM: f64 = 1.0;
 /// conventions in the crate documentation). They are API lengths, so they
 /// take the scalar's [`Arith::Wide`] type (the scalar itself for floats).
 #[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+#[cfg_attr(feature = "serde", serde(deny_unknown_fields))]
+#[cfg_attr(
+    feature = "serde",
+    serde(bound(serialize = "S::Wide: serde::Serialize", deserialize = "S::Wide: serde::Deserialize<'de>"))
+)]
 pub struct Geometry<S: Arith> {
     /// Base centre to each actuator axis, measured radially.
     pub base_radius: S::Wide,
@@ -39,6 +45,8 @@ pub struct Geometry<S: Arith> {
 
 /// What the guarded solvers enforce.
 #[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+#[cfg_attr(feature = "serde", serde(deny_unknown_fields))]
 pub struct Limits<S> {
     /// Lowest joint angle of each arm (rad).
     pub joint_min: [S; 3],
