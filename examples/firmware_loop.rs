@@ -104,9 +104,7 @@ fn main() {
                 for (peak, w) in peak_rate.iter_mut().zip(step.setpoint.joint_rates) {
                     *peak = peak.max(w.abs());
                 }
-                if step.setpoint.end_of_move
-                    && let Some(c) = cycles_per_move.get_mut(step.move_id as usize)
-                {
+                if let Some(c) = cycles_per_move.get_mut(step.move_id as usize).filter(|_| step.setpoint.end_of_move) {
                     *c = step.setpoint.cycle;
                 }
             }
