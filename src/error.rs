@@ -182,6 +182,26 @@ pub enum Error {
 }
 
 impl Error {
+    /// The arm the error concerns (0, 1 or 2), for the errors that have
+    /// one; `None` for the others.
+    #[must_use]
+    pub const fn arm(&self) -> Option<u8> {
+        match *self {
+            Error::Unreachable { arm }
+            | Error::JointLimit { arm, .. }
+            | Error::PassiveLimit { arm, .. }
+            | Error::NearSerialSingularity { arm }
+            | Error::InvalidArm { arm, .. } => Some(arm),
+            Error::InvalidDynamics { arm, .. } => arm,
+            Error::NonFinite { .. }
+            | Error::NoAssembly
+            | Error::NearParallelSingularity
+            | Error::InvalidGeometry(_)
+            | Error::InvalidLimits(_)
+            | Error::OutOfRange => None,
+        }
+    }
+
     /// One short lowercase word naming the error, as used in the status
     /// column of the CLI and handy for firmware logs.
     #[must_use]
@@ -275,6 +295,17 @@ pub(crate) fn check_finite<A: crate::scalar::Arith>(v: [A; 3], input: Input) -> 
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn the_arm_is_named_where_the_error_has_one() {
+        assert_eq!(Error::Unreachable { arm: 2 }.arm(), Some(2));
+        assert_eq!(Error::JointLimit { arm: 1, bound: Bound::Min }.arm(), Some(1));
+        assert_eq!(Error::PassiveLimit { arm: 0, end: JointEnd::Platform }.arm(), Some(0));
+        assert_eq!(Error::NearSerialSingularity { arm: 2 }.arm(), Some(2));
+        assert_eq!(Error::NearParallelSingularity.arm(), None);
+        assert_eq!(Error::NoAssembly.arm(), None);
+        assert_eq!(Error::NonFinite { input: Input::JointAngles }.arm(), None);
+    }
 
     #[test]
     fn status_words_are_short_lowercase_and_distinct() {
