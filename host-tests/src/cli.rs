@@ -5,7 +5,8 @@
 //! accuracy bound, a target budget, ...); 2 a usage or configuration
 //! problem (bad arguments, unreadable or invalid robot, moves, gate or
 //! targets file, missing or wrong CSV header, a move `plan` must refuse,
-//! I/O failure).
+//! I/O failure). A closed stdout pipe (`deltakin plan | head`) is not a
+//! failure: the command ends quietly with status 0.
 
 use std::io::{BufWriter, Read, Write};
 use std::path::{Path, PathBuf};
@@ -53,7 +54,7 @@ pub const BAD_ROW: &str = "bad_row";
     propagate_version = true,
     after_help = "Exit status: 0 success; 1 `report` found an enforced gate broken; \
                   2 usage or configuration problem (arguments, robot, moves, gate or targets file, \
-                  CSV header, a refused move, I/O)."
+                  CSV header, a refused move, I/O). A closed output pipe ends quietly with 0."
 )]
 pub struct Cli {
     /// What to do.
@@ -64,24 +65,31 @@ pub struct Cli {
 /// The subcommands.
 #[derive(Debug, Subcommand)]
 pub enum Command {
-    /// Inverse kinematics: platform positions (CSV on stdin) to joint
-    /// angles (CSV on stdout).
+    /// Inverse kinematics: platform positions (CSV from FILE or stdin) to
+    /// joint angles (CSV on stdout), row by row.
     ///
-    /// Input header: x_mm,y_mm,z_mm. Output header:
-    /// theta0_deg,theta1_deg,theta2_deg,status. One output row per input
-    /// row, in order. Every limit and singularity margin of the robot is
-    /// enforced (guarded solve, elbow-out branch). status is `ok` or one
-    /// word naming the problem (unreachable, joint_limit, passive_limit,
-    /// near_serial, near_parallel, non_finite, or bad_row for a row that
-    /// is not three numbers); the angles are empty on a row that is not
-    /// `ok`, and the batch goes on. Blank lines are skipped.
+    /// Input columns: x_mm,y_mm,z_mm, found by name. Output header:
+    /// theta0_deg,theta1_deg,theta2_deg,status, then every other input
+    /// column passed through. One output row per input row, in order,
+    /// written as it is solved. Every limit and singularity margin of the
+    /// robot is enforced (guarded solve, elbow-out branch). status is `ok`
+    /// or one word naming the problem (unreachable, joint_limit,
+    /// passive_limit, near_serial, near_parallel, non_finite, or bad_row
+    /// for a row that is not three numbers), with `_armN` where it
+    /// concerns arm N (unreachable_arm2); the angles are empty on a row
+    /// that is not `ok`, and the batch goes on. An input status column
+    /// (from an earlier stage) is consumed: a row not `ok` keeps its
+    /// status. Numbers: the shortest plain decimal that reads back to the
+    /// computed value. Blank lines are skipped.
     #[command(after_help = "Example:\n  printf 'x_mm,y_mm,z_mm\\n0,0,-700\\n' | deltakin ik --scalar f32")]
     Ik(SolveArgs),
-    /// Forward kinematics: joint angles (CSV on stdin) to platform
-    /// positions (CSV on stdout).
+    /// Forward kinematics: joint angles (CSV from FILE or stdin) to
+    /// platform positions (CSV on stdout), row by row; `ik`'s output pipes
+    /// into it.
     ///
-    /// Input header: theta0_deg,theta1_deg,theta2_deg. Output header:
-    /// x_mm,y_mm,z_mm,status. One output row per input row, in order.
+    /// Input columns: theta0_deg,theta1_deg,theta2_deg, found by name.
+    /// Output header: x_mm,y_mm,z_mm,status, then every other input column
+    /// passed through (as for `ik`). One output row per input row, in order.
     /// Every limit and singularity margin is enforced (guarded solve,
     /// platform below the elbows). status is `ok` or one word naming the
     /// problem (as for `ik`, plus no_assembly when the arms cannot meet);
