@@ -18,7 +18,13 @@ fn demo_robot_in<S: Real>() -> Robot<S> {
     let f = |v: f32| S::from_f64(f64::from(v)).expect("in range");
     let geometry =
         Geometry { base_radius: w(160.0), platform_radius: w(40.0), upper_arm: w(280.0), lower_arm: w(720.0) };
-    let limits = Limits::uniform(f(-35f32.to_radians()), f(85f32.to_radians()), f(40f32.to_radians()), f(0.1), f(0.1));
+    let limits = Limits {
+        joint_min: [f(-35f32.to_radians()); 3],
+        joint_max: [f(85f32.to_radians()); 3],
+        passive_cone: f(40f32.to_radians()),
+        min_serial_margin: f(0.1),
+        min_parallel_margin: f(0.1),
+    };
     Robot::new(geometry, limits).expect("demo robot")
 }
 

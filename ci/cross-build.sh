@@ -1,6 +1,7 @@
 #!/usr/bin/env bash
-# Builds the deltakin core library without default features for the two
-# Cortex-M targets deltakin serves:
+# Builds the deltakin core library without default features, then with each
+# optional integration (defmt, serde, both), for the two Cortex-M targets
+# deltakin serves:
 #   thumbv7em-none-eabihf  (Cortex-M4F/M7, single-precision FPU)
 #   thumbv6m-none-eabi     (Cortex-M0/M0+, no FPU, no hardware divide)
 #
@@ -11,7 +12,7 @@
 # Output goes to target/cross (route 2: target/cross/debian) so the host
 # build in target/ stays valid.
 #
-# Prints the .text size of the built rlib for each target. That is only
+# Prints the .text size of the built rlib (no features) for each target. That is only
 # the code no caller can inline or instantiate itself (the error
 # messages' formatting, about half a kilobyte): the solvers are generic
 # and the f32 kernels small, so they are compiled into the crate that
@@ -60,5 +61,12 @@ for target in "${TARGETS[@]}"; do
     env "${CROSS_ENV[@]}" cargo build -p deltakin --lib --release --no-default-features \
         --target "$target" "${CROSS_FLAGS[@]}" --target-dir "$out"
     print_text_size "$target" "$out"
+    # The optional integrations a firmware crate switches on (std and
+    # no-panic are host-only: std needs a target std, no-panic a host link).
+    for features in defmt serde defmt,serde; do
+        env "${CROSS_ENV[@]}" cargo build -p deltakin --lib --release --no-default-features \
+            --features "$features" --target "$target" "${CROSS_FLAGS[@]}" --target-dir "$out"
+        echo "cross-build: $target --features $features ok"
+    done
 done
 echo "cross-build: all targets built"

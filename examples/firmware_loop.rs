@@ -41,7 +41,13 @@ const CORRECTIONS: Corrections<f32> = [ArmCorrection::ZERO; 3];
 
 fn robot() -> Robot<f32> {
     let geometry = Geometry { base_radius: 160.0, platform_radius: 40.0, upper_arm: 280.0, lower_arm: 720.0 };
-    let limits = Limits::uniform(deg(-35.0), deg(85.0), deg(40.0), 0.1, 0.1);
+    let limits = Limits {
+        joint_min: [deg(-35.0); 3],
+        joint_max: [deg(85.0); 3],
+        passive_cone: deg(40.0),
+        min_serial_margin: 0.1,
+        min_parallel_margin: 0.1,
+    };
     match Robot::with_corrections(geometry, CORRECTIONS, limits) {
         Ok(r) => r,
         Err(e) => panic!("demo robot: {e}"),
@@ -98,9 +104,7 @@ fn main() {
                 for (peak, w) in peak_rate.iter_mut().zip(step.setpoint.joint_rates) {
                     *peak = peak.max(w.abs());
                 }
-                if step.setpoint.end_of_move
-                    && let Some(c) = cycles_per_move.get_mut(step.move_id as usize)
-                {
+                if let Some(c) = cycles_per_move.get_mut(step.move_id as usize).filter(|_| step.setpoint.end_of_move) {
                     *c = step.setpoint.cycle;
                 }
             }

@@ -77,6 +77,7 @@ pub const GRAVITY_MM_S2: f64 = 9806.65;
 /// Which dynamics parameter a [`Error::InvalidDynamics`] names.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 #[non_exhaustive]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub enum DynamicsParameter {
     /// Upper arm mass negative or not finite.
     UpperArmMass,
@@ -122,6 +123,8 @@ impl fmt::Display for DynamicsParameter {
 
 /// The physical parameters, as a user gives them (`f64`, kg / mm / N*mm).
 #[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+#[cfg_attr(feature = "serde", serde(deny_unknown_fields))]
 pub struct DynamicsParams {
     /// Mass of each upper arm, kg.
     pub upper_arm_mass: [f64; 3],
@@ -320,7 +323,17 @@ mod tests {
 
     fn robot() -> Robot<f64> {
         let g = Geometry { base_radius: 160.0, platform_radius: 40.0, upper_arm: 280.0, lower_arm: 720.0 };
-        Robot::new(g, Limits::uniform(-0.6, 1.5, 0.7, 0.1, 0.1)).unwrap()
+        Robot::new(
+            g,
+            Limits {
+                joint_min: [-0.6; 3],
+                joint_max: [1.5; 3],
+                passive_cone: 0.7,
+                min_serial_margin: 0.1,
+                min_parallel_margin: 0.1,
+            },
+        )
+        .unwrap()
     }
 
     fn params() -> DynamicsParams {
@@ -400,7 +413,17 @@ mod tests {
     #[test]
     fn f32_agrees_with_f64() {
         let g = Geometry { base_radius: 160.0f32, platform_radius: 40.0, upper_arm: 280.0, lower_arm: 720.0 };
-        let r32 = Robot::new(g, Limits::uniform(-0.6f32, 1.5, 0.7, 0.1, 0.1)).unwrap();
+        let r32 = Robot::new(
+            g,
+            Limits {
+                joint_min: [-0.6f32; 3],
+                joint_max: [1.5; 3],
+                passive_cone: 0.7,
+                min_serial_margin: 0.1,
+                min_parallel_margin: 0.1,
+            },
+        )
+        .unwrap();
         let (r64, p) = (robot(), params());
         let d32 = Dynamics::new(&p, &r32).unwrap();
         let d64 = Dynamics::new(&p, &r64).unwrap();

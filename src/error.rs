@@ -5,6 +5,7 @@ use core::fmt;
 /// Which input argument held a non-finite number.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 #[non_exhaustive]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub enum Input {
     /// A Cartesian target or position (mm).
     Position,
@@ -20,6 +21,7 @@ pub enum Input {
 
 /// Which end of a joint range was crossed.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub enum Bound {
     /// Below the minimum.
     Min,
@@ -29,6 +31,7 @@ pub enum Bound {
 
 /// Which end of a lower arm a passive (ball or universal) joint sits at.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub enum JointEnd {
     /// At the elbow, on the upper arm.
     Elbow,
@@ -39,6 +42,7 @@ pub enum JointEnd {
 /// Why a geometry or a set of limits cannot describe a buildable machine.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 #[non_exhaustive]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub enum ConfigFault {
     /// A dimension or limit is NaN or infinite.
     NonFinite,
@@ -71,6 +75,7 @@ pub enum ConfigFault {
 /// [`crate::ArmCorrection`], whose fields these name).
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 #[non_exhaustive]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub enum ArmParameter {
     /// The joint zero offset.
     JointOffset,
@@ -110,6 +115,7 @@ impl ArmParameter {
 /// sits at azimuth `120 deg * i`).
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 #[non_exhaustive]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub enum Error {
     /// An input held NaN or an infinity.
     NonFinite {
@@ -176,6 +182,26 @@ pub enum Error {
 }
 
 impl Error {
+    /// The arm the error concerns (0, 1 or 2), for the errors that have
+    /// one; `None` for the others.
+    #[must_use]
+    pub const fn arm(&self) -> Option<u8> {
+        match *self {
+            Error::Unreachable { arm }
+            | Error::JointLimit { arm, .. }
+            | Error::PassiveLimit { arm, .. }
+            | Error::NearSerialSingularity { arm }
+            | Error::InvalidArm { arm, .. } => Some(arm),
+            Error::InvalidDynamics { arm, .. } => arm,
+            Error::NonFinite { .. }
+            | Error::NoAssembly
+            | Error::NearParallelSingularity
+            | Error::InvalidGeometry(_)
+            | Error::InvalidLimits(_)
+            | Error::OutOfRange => None,
+        }
+    }
+
     /// One short lowercase word naming the error, as used in the status
     /// column of the CLI and handy for firmware logs.
     #[must_use]
@@ -269,6 +295,17 @@ pub(crate) fn check_finite<A: crate::scalar::Arith>(v: [A; 3], input: Input) -> 
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn the_arm_is_named_where_the_error_has_one() {
+        assert_eq!(Error::Unreachable { arm: 2 }.arm(), Some(2));
+        assert_eq!(Error::JointLimit { arm: 1, bound: Bound::Min }.arm(), Some(1));
+        assert_eq!(Error::PassiveLimit { arm: 0, end: JointEnd::Platform }.arm(), Some(0));
+        assert_eq!(Error::NearSerialSingularity { arm: 2 }.arm(), Some(2));
+        assert_eq!(Error::NearParallelSingularity.arm(), None);
+        assert_eq!(Error::NoAssembly.arm(), None);
+        assert_eq!(Error::NonFinite { input: Input::JointAngles }.arm(), None);
+    }
 
     #[test]
     fn status_words_are_short_lowercase_and_distinct() {

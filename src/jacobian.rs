@@ -196,7 +196,17 @@ mod tests {
     fn a_torque_that_would_overflow_is_an_error_not_infinity() {
         let g: Geometry<f32> =
             Geometry { base_radius: 160.0, platform_radius: 40.0, upper_arm: 280.0, lower_arm: 720.0 };
-        let robot = Robot::new(g, Limits::uniform(-0.6, 1.5, 0.7, 0.1, 0.1)).unwrap();
+        let robot = Robot::new(
+            g,
+            Limits {
+                joint_min: [-0.6; 3],
+                joint_max: [1.5; 3],
+                passive_cone: 0.7,
+                min_serial_margin: 0.1,
+                min_parallel_margin: 0.1,
+            },
+        )
+        .unwrap();
         let jac = robot.inverse([0.0, 0.0, -700.0]).unwrap().jacobian;
         // Finite in, finite out for an ordinary force ...
         assert!(jac.joint_torques([0.0, 0.0, -50.0]).unwrap().iter().all(|t| t.is_finite()));

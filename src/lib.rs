@@ -1,4 +1,4 @@
-#![doc = include_str!("../README.md")]
+#![doc = include_str!("lib.md")]
 #![no_std]
 #![forbid(unsafe_code)]
 // `!(a >= b)` is deliberate throughout: it is true for NaN, so a NaN never
@@ -23,6 +23,10 @@ mod robot;
 pub mod scalar;
 mod solution;
 mod solve;
+#[cfg(feature = "defmt")]
+mod with_defmt;
+#[cfg(feature = "serde")]
+mod with_serde;
 
 pub use dynamics::{Dynamics, DynamicsParameter, DynamicsParams};
 pub use error::{ArmParameter, Bound, ConfigFault, Error, Input, JointEnd};
@@ -30,4 +34,10 @@ pub use jacobian::Jacobian;
 pub use per_arm::{ArmCorrection, Corrections};
 pub use robot::{Geometry, Limits, MAX_DIMENSION_MM, MIN_DIMENSION_MM, Robot};
 pub use scalar::{Arith, Fixed, FixedWide, Real};
+
+/// The README's examples, compiled and run as doctests (the README is the
+/// repository's front page; the crate's is `src/lib.md`).
+#[cfg(doctest)]
+#[doc = include_str!("../README.md")]
+pub struct ReadmeDoctests;
 pub use solution::{Margins, Solution};

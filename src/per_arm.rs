@@ -104,6 +104,15 @@ pub const MAX_LENGTH_CORRECTION: f64 = 0.1;
 /// Angles are radians in the scalar type, lengths millimetres in the
 /// scalar's API type [`Arith::Wide`] (the scalar itself for floats).
 #[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+#[cfg_attr(feature = "serde", serde(deny_unknown_fields))]
+#[cfg_attr(
+    feature = "serde",
+    serde(bound(
+        serialize = "S: serde::Serialize, S::Wide: serde::Serialize",
+        deserialize = "S: serde::Deserialize<'de>, S::Wide: serde::Deserialize<'de>"
+    ))
+)]
 pub struct ArmCorrection<S: Arith> {
     /// Joint zero offset (rad): the true joint angle of the conventions
     /// when the joint reads 0. The solvers take and give joint readings;

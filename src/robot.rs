@@ -26,6 +26,12 @@ pub const MIN_DIMENSION_MM: f64 = 1.0;
 /// conventions in the crate documentation). They are API lengths, so they
 /// take the scalar's [`Arith::Wide`] type (the scalar itself for floats).
 #[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+#[cfg_attr(feature = "serde", serde(deny_unknown_fields))]
+#[cfg_attr(
+    feature = "serde",
+    serde(bound(serialize = "S::Wide: serde::Serialize", deserialize = "S::Wide: serde::Deserialize<'de>"))
+)]
 pub struct Geometry<S: Arith> {
     /// Base centre to each actuator axis, measured radially.
     pub base_radius: S::Wide,
@@ -38,23 +44,65 @@ pub struct Geometry<S: Arith> {
 }
 
 /// What the guarded solvers enforce.
+///
+/// Write it as a struct literal, so that every value is named where the
+/// robot is built (the same range on every arm is `[value; 3]`), and let
+/// [`Robot::new`] validate it (or call [`Limits::validate`] first):
+///
+/// ```
+/// use deltakin::Limits;
+///
+/// let limits: Limits<f32> = Limits {
+///     joint_min: [(-35.0f32).to_radians(); 3],
+///     joint_max: [85.0f32.to_radians(); 3],
+///     passive_cone: 40.0f32.to_radians(), // half-angle
+///     min_serial_margin: 0.1,
+///     min_parallel_margin: 0.1,
+/// };
+/// limits.validate()?;
+/// # Ok::<(), deltakin::Error>(())
+/// ```
+///
+/// # What a minimum margin of zero means
+/// The margins run from 0 at a singularity to 1 at the best pose (see
+/// [`crate::Margins`]). A minimum of 0 switches that guard off up to the
+/// singularity itself: the serial guard then refuses only the elbow-in
+/// branch (a negative serial margin), and the parallel guard refuses
+/// nothing (the parallel margin is never negative). Poses arbitrarily
+/// close to a singularity pass, where the joint rates for a given tool
+/// speed and the joint torques for a given force grow without bound, and
+/// [`Jacobian`](crate::Jacobian) maps may fail. That is meant for
+/// diagnostics and workspace maps; a machine that commands motion should
+/// set positive minimums (the demo robot uses 0.1). [`Limits::validate`]
+/// accepts 0 and refuses negative values and values of 1 or more; the
+/// harness warns about a robot file whose minimum margin is 0.
 #[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+#[cfg_attr(feature = "serde", serde(deny_unknown_fields))]
 pub struct Limits<S> {
-    /// Lowest joint angle of each arm (rad).
+    /// Lowest joint angle of each arm (rad), arms 0, 1, 2.
     pub joint_min: [S; 3],
-    /// Highest joint angle of each arm (rad).
+    /// Highest joint angle of each arm (rad), arms 0, 1, 2.
     pub joint_max: [S; 3],
     /// Half-angle of the cone each passive joint may move in, around its
-    /// neutral axis (rad). See [`Robot`] for what exactly is measured.
+    /// neutral axis (rad): the largest tilt of a rod from that axis, not
+    /// the cone's full opening. See [`Robot`] for what exactly is measured.
     pub passive_cone: S,
-    /// Smallest serial margin accepted on any arm, in `[0, 1)`.
+    /// Smallest serial margin accepted on any arm, in `[0, 1)` (0: see
+    /// above).
     pub min_serial_margin: S,
-    /// Smallest parallel margin accepted, in `[0, 1)`.
+    /// Smallest parallel margin accepted, in `[0, 1)` (0: see above).
     pub min_parallel_margin: S,
 }
 
 impl<S: Copy> Limits<S> {
-    /// The same joint range on all three arms.
+    /// The same joint range on all three arms, from five positional values
+    /// (in the order of the fields).
+    #[deprecated(
+        since = "0.2.0",
+        note = "five unnamed values are easy to swap: write the `Limits { .. }` literal, every value named \
+                (`joint_min: [value; 3]` for the same range on every arm)"
+    )]
     #[must_use]
     pub const fn uniform(
         joint_min: S,
@@ -308,7 +356,13 @@ mod tests {
     }
 
     fn limits() -> Limits<f64> {
-        Limits::uniform(-0.7, 1.5, 0.6, 0.05, 0.05)
+        Limits {
+            joint_min: [-0.7; 3],
+            joint_max: [1.5; 3],
+            passive_cone: 0.6,
+            min_serial_margin: 0.05,
+            min_parallel_margin: 0.05,
+        }
     }
 
     #[test]
@@ -322,6 +376,23 @@ mod tests {
             let p2: f64 = arm.platform_axis.iter().map(|v| v * v).sum();
             assert!((n2 - 1.0).abs() < 1e-12 && (p2 - 1.0).abs() < 1e-12);
         }
+    }
+
+    #[test]
+    #[allow(deprecated)]
+    fn the_positional_form_equals_the_named_one() {
+        assert_eq!(Limits::uniform(-0.7, 1.5, 0.6, 0.05, 0.05), limits());
+    }
+
+    #[test]
+    fn a_zero_margin_is_accepted_and_switches_the_guard_off_up_to_the_singularity() {
+        let off = Limits { min_serial_margin: 0.0, min_parallel_margin: 0.0, ..limits() };
+        assert_eq!(off.validate(), Ok(()));
+        assert_eq!(Limits { min_serial_margin: -0.0, ..limits() }.validate(), Ok(()));
+        assert_eq!(
+            Limits { min_serial_margin: -1e-12, ..limits() }.validate(),
+            Err(Error::InvalidLimits(ConfigFault::Margin))
+        );
     }
 
     #[test]
@@ -361,7 +432,13 @@ mod tests {
     fn neutral_pose_that_cannot_close_is_refused() {
         // Radial gap of 1200 mm at mid-range against an 800 mm lower arm.
         let g = Geometry { base_radius: 1300.0, platform_radius: 50.0, ..geometry() };
-        let l = Limits::uniform(-0.1, 0.1, 0.6, 0.05, 0.05);
+        let l = Limits {
+            joint_min: [-0.1; 3],
+            joint_max: [0.1; 3],
+            passive_cone: 0.6,
+            min_serial_margin: 0.05,
+            min_parallel_margin: 0.05,
+        };
         assert_eq!(Robot::new(g, l), Err(Error::InvalidLimits(ConfigFault::NeutralPose)));
     }
 }

@@ -11,6 +11,7 @@ use crate::scalar::{Arith, Real};
 /// How far a pose is from trouble. See [`crate::jacobian`] for the margin
 /// formulas and [`Robot`] for the passive-joint axes.
 #[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Margins<S> {
     /// Serial (Type I) margin of each arm, in `[-1, 1]`: the cosine of the
     /// angle between the lower arm and the elbow's direction of travel,

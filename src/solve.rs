@@ -167,7 +167,13 @@ mod tests {
         let f = |v: f64| S::from_f64(v).unwrap();
         let w = |v: f64| S::Wide::from_f64(v).unwrap();
         let g = Geometry { base_radius: w(180.0), platform_radius: w(45.0), upper_arm: w(300.0), lower_arm: w(750.0) };
-        let l = Limits::uniform(f(-0.8), f(1.6), f(0.7), f(0.02), f(0.02));
+        let l = Limits {
+            joint_min: [f(-0.8); 3],
+            joint_max: [f(1.6); 3],
+            passive_cone: f(0.7),
+            min_serial_margin: f(0.02),
+            min_parallel_margin: f(0.02),
+        };
         Robot::new(g, l).unwrap()
     }
 
@@ -231,7 +237,17 @@ mod tests {
     #[test]
     fn elbow_in_poses_have_negative_serial_margin_and_are_refused() {
         // Wide joint range and cones, so that only the branch can refuse.
-        let r = Robot::new(*robot::<f64>().geometry(), Limits::uniform(-3.0, 3.0, 1.55, 0.02, 0.0)).unwrap();
+        let r = Robot::new(
+            *robot::<f64>().geometry(),
+            Limits {
+                joint_min: [-3.0; 3],
+                joint_max: [3.0; 3],
+                passive_cone: 1.55,
+                min_serial_margin: 0.02,
+                min_parallel_margin: 0.0,
+            },
+        )
+        .unwrap();
         let target = [40.0, -30.0, -820.0];
         let sol = r.inverse(target).unwrap();
         assert!(sol.margins.serial.iter().all(|&m| m > 0.0));

@@ -38,13 +38,13 @@ pub fn robot<S: Real>() -> Robot<S> {
         upper_arm: to(UPPER_ARM_MM),
         lower_arm: to(LOWER_ARM_MM),
     };
-    let limits = Limits::uniform(
-        to(JOINT_MIN_DEG.to_radians()),
-        to(JOINT_MAX_DEG.to_radians()),
-        to(PASSIVE_CONE_DEG.to_radians()),
-        to(MIN_SERIAL_MARGIN),
-        to(MIN_PARALLEL_MARGIN),
-    );
+    let limits = Limits {
+        joint_min: [to(JOINT_MIN_DEG.to_radians()); 3],
+        joint_max: [to(JOINT_MAX_DEG.to_radians()); 3],
+        passive_cone: to(PASSIVE_CONE_DEG.to_radians()),
+        min_serial_margin: to(MIN_SERIAL_MARGIN),
+        min_parallel_margin: to(MIN_PARALLEL_MARGIN),
+    };
     Robot::new(geometry, limits).expect("the demo robot is valid")
 }
 

@@ -5,7 +5,8 @@
 //! accuracy bound, a target budget, ...); 2 a usage or configuration
 //! problem (bad arguments, unreadable or invalid robot, moves, gate or
 //! targets file, missing or wrong CSV header, a move `plan` must refuse,
-//! I/O failure).
+//! I/O failure). A closed stdout pipe (`deltakin plan | head`) is not a
+//! failure: the command ends quietly with status 0.
 
 use std::io::{BufWriter, Read, Write};
 use std::path::{Path, PathBuf};
@@ -17,6 +18,7 @@ use deltakin::{Arith, Error, Fixed, FixedWide, Real, Robot, Solution};
 use crate::config::{ConfigError, RobotFile};
 use crate::crosscheck;
 use crate::gates::{self, GateConfig, TargetsFile};
+use crate::numtext;
 use crate::plan;
 use crate::plots;
 use crate::report::{self, Report};
@@ -52,7 +54,7 @@ pub const BAD_ROW: &str = "bad_row";
     propagate_version = true,
     after_help = "Exit status: 0 success; 1 `report` found an enforced gate broken; \
                   2 usage or configuration problem (arguments, robot, moves, gate or targets file, \
-                  CSV header, a refused move, I/O)."
+                  CSV header, a refused move, I/O). A closed output pipe ends quietly with 0."
 )]
 pub struct Cli {
     /// What to do.
@@ -63,24 +65,31 @@ pub struct Cli {
 /// The subcommands.
 #[derive(Debug, Subcommand)]
 pub enum Command {
-    /// Inverse kinematics: platform positions (CSV on stdin) to joint
-    /// angles (CSV on stdout).
+    /// Inverse kinematics: platform positions (CSV from FILE or stdin) to
+    /// joint angles (CSV on stdout), row by row.
     ///
-    /// Input header: x_mm,y_mm,z_mm. Output header:
-    /// theta0_deg,theta1_deg,theta2_deg,status. One output row per input
-    /// row, in order. Every limit and singularity margin of the robot is
-    /// enforced (guarded solve, elbow-out branch). status is `ok` or one
-    /// word naming the problem (unreachable, joint_limit, passive_limit,
-    /// near_serial, near_parallel, non_finite, or bad_row for a row that
-    /// is not three numbers); the angles are empty on a row that is not
-    /// `ok`, and the batch goes on. Blank lines are skipped.
+    /// Input columns: x_mm,y_mm,z_mm, found by name. Output header:
+    /// theta0_deg,theta1_deg,theta2_deg,status, then every other input
+    /// column passed through. One output row per input row, in order,
+    /// written as it is solved. Every limit and singularity margin of the
+    /// robot is enforced (guarded solve, elbow-out branch). status is `ok`
+    /// or one word naming the problem (unreachable, joint_limit,
+    /// passive_limit, near_serial, near_parallel, non_finite, or bad_row
+    /// for a row that is not three numbers), with `_armN` where it
+    /// concerns arm N (unreachable_arm2); the angles are empty on a row
+    /// that is not `ok`, and the batch goes on. An input status column
+    /// (from an earlier stage) is consumed: a row not `ok` keeps its
+    /// status. Numbers: the shortest plain decimal that reads back to the
+    /// computed value. Blank lines are skipped.
     #[command(after_help = "Example:\n  printf 'x_mm,y_mm,z_mm\\n0,0,-700\\n' | deltakin ik --scalar f32")]
     Ik(SolveArgs),
-    /// Forward kinematics: joint angles (CSV on stdin) to platform
-    /// positions (CSV on stdout).
+    /// Forward kinematics: joint angles (CSV from FILE or stdin) to
+    /// platform positions (CSV on stdout), row by row; `ik`'s output pipes
+    /// into it.
     ///
-    /// Input header: theta0_deg,theta1_deg,theta2_deg. Output header:
-    /// x_mm,y_mm,z_mm,status. One output row per input row, in order.
+    /// Input columns: theta0_deg,theta1_deg,theta2_deg, found by name.
+    /// Output header: x_mm,y_mm,z_mm,status, then every other input column
+    /// passed through (as for `ik`). One output row per input row, in order.
     /// Every limit and singularity margin is enforced (guarded solve,
     /// platform below the elbows). status is `ok` or one word naming the
     /// problem (as for `ik`, plus no_assembly when the arms cannot meet);
@@ -175,6 +184,9 @@ pub const DEFAULT_NOISE_MM: f64 = 0.02;
 /// Options of `ik` and `fk`.
 #[derive(Debug, Args)]
 pub struct SolveArgs {
+    /// Input CSV file; standard input when omitted or `-`.
+    #[arg(value_name = "FILE")]
+    pub input: Option<PathBuf>,
     /// Robot file (TOML, see examples/demo_robot.toml); the built-in demo
     /// robot when omitted.
     #[arg(long, value_name = "FILE")]
@@ -318,7 +330,7 @@ impl CliScalar for f64 {
     }
 
     fn print(v: f64) -> String {
-        format!("{v}")
+        numtext::text(v, numtext::Precision::F64)
     }
 }
 
@@ -335,9 +347,7 @@ impl CliScalar for f32 {
     }
 
     fn print(v: f64) -> String {
-        #[allow(clippy::cast_possible_truncation)]
-        let v = v as f32;
-        format!("{v}")
+        numtext::text(v, numtext::Precision::F32)
     }
 }
 
@@ -363,7 +373,7 @@ impl CliScalar for Fixed {
     fn print(v: f64) -> String {
         // Every fixed-point value is exactly an f64; its shortest f64 text
         // reads back to the same fixed-point value.
-        format!("{v}")
+        numtext::text(v, numtext::Precision::F64)
     }
 }
 
@@ -397,102 +407,224 @@ impl Direction {
     }
 }
 
-/// One CSV batch through the guarded core.
-struct Batch<'a> {
-    direction: Direction,
-    robot: &'a RobotFile,
-    input: &'a [u8],
+/// How a batch ended early: a whole-command failure, or the reader of
+/// stdout went away (a closed pipe, as in `deltakin ik | head`), which
+/// ends the command quietly with status 0.
+enum Stop {
+    Failed(Failure),
+    Closed,
 }
 
-impl WithScalar for Batch<'_> {
-    type Output = Result<Vec<u8>, Failure>;
-
-    fn run<S: CliScalar>(self) -> Self::Output {
-        let robot = self.robot.robot::<S>()?;
-        solve_batch(&robot, self.direction, self.input)
+impl From<Failure> for Stop {
+    fn from(f: Failure) -> Self {
+        Stop::Failed(f)
     }
 }
 
-/// Turns one parsed row (CSV units) into one output row.
-fn solve_row<S: CliScalar>(robot: &Robot<S>, direction: Direction, values: [f64; 3]) -> String {
-    fn all3<T>(v: [Result<T, &'static str>; 3]) -> Result<[T; 3], &'static str> {
+impl From<ConfigError> for Stop {
+    fn from(e: ConfigError) -> Self {
+        Stop::Failed(Failure::from(e))
+    }
+}
+
+/// True for the error a write to a closed pipe gives.
+fn closed_pipe(e: &std::io::Error) -> bool {
+    e.kind() == std::io::ErrorKind::BrokenPipe
+}
+
+/// A failed write: quiet for a closed pipe, a message otherwise.
+fn write_stop(e: &std::io::Error) -> Stop {
+    if closed_pipe(e) { Stop::Closed } else { Stop::Failed(Failure(format!("cannot write stdout: {e}"))) }
+}
+
+/// Bytes of input the CSV reader holds at a time (and the output buffer's
+/// size): memory stays bounded whatever the length of the input.
+pub const BATCH_BUFFER_BYTES: usize = 64 * 1024;
+
+/// One CSV batch through the guarded core, row by row.
+struct Batch<'a, R, W> {
+    direction: Direction,
+    robot: &'a RobotFile,
+    input: R,
+    output: W,
+}
+
+impl<R: Read, W: Write> WithScalar for Batch<'_, R, W> {
+    type Output = Result<(), Stop>;
+
+    fn run<S: CliScalar>(self) -> Self::Output {
+        let robot = self.robot.robot::<S>()?;
+        solve_batch(&robot, self.direction, self.input, self.output)
+    }
+}
+
+/// The status column of a failed row: the error's word, and the arm
+/// (`_arm0`, `_arm1`, `_arm2`) where the error concerns one arm, as
+/// `unreachable_arm2` or `joint_limit_arm0`.
+#[must_use]
+pub fn status_text(e: &Error) -> String {
+    match e.arm() {
+        Some(arm) => format!("{}_arm{arm}", e.status_word()),
+        None => e.status_word().to_owned(),
+    }
+}
+
+/// Solves one parsed row (CSV units): the three output numbers as text,
+/// or the status for a row that is not `ok`.
+fn solve_row<S: CliScalar>(robot: &Robot<S>, direction: Direction, values: [f64; 3]) -> Result<[String; 3], String> {
+    fn all3<T>(v: [Result<T, &'static str>; 3]) -> Result<[T; 3], String> {
         let [a, b, c] = v;
         Ok([a?, b?, c?])
     }
     let solved: Result<Solution<S>, Error> = match direction {
-        Direction::Inverse => match all3(values.map(S::length_in)) {
-            Ok(x) => robot.inverse(x),
-            Err(w) => return format!(",,,{w}"),
-        },
-        Direction::Forward => match all3(values.map(|v| S::angle_in(v.to_radians()))) {
-            Ok(x) => robot.forward(x),
-            Err(w) => return format!(",,,{w}"),
-        },
+        Direction::Inverse => robot.inverse(all3(values.map(S::length_in))?),
+        Direction::Forward => robot.forward(all3(values.map(|v| S::angle_in(v.to_radians())))?),
     };
-    match solved {
-        Ok(s) => {
-            let out = match direction {
-                Direction::Inverse => s.joints.map(|t| t.to_f64().to_degrees()),
-                Direction::Forward => s.position.map(Arith::to_f64),
-            };
-            format!("{},{},{},ok", S::print(out[0]), S::print(out[1]), S::print(out[2]))
-        }
-        Err(e) => format!(",,,{}", e.status_word()),
-    }
+    let s = solved.map_err(|e| status_text(&e))?;
+    let out = match direction {
+        Direction::Inverse => s.joints.map(|t| t.to_f64().to_degrees()),
+        Direction::Forward => s.position.map(Arith::to_f64),
+    };
+    Ok(out.map(S::print))
 }
 
-/// Parses a data row: exactly three numbers.
-fn parse_row(record: &csv::ByteRecord) -> Option<[f64; 3]> {
-    if record.len() != 3 {
-        return None;
-    }
-    let field = |i: usize| -> Option<f64> { std::str::from_utf8(record.get(i)?).ok()?.trim().parse().ok() };
-    Some([field(0)?, field(1)?, field(2)?])
+/// Where the columns of an input header are.
+struct Columns {
+    /// The three input values, in the order of the direction's header.
+    values: [usize; 3],
+    /// A `status` column from an earlier stage (`ik`'s output into `fk`).
+    status: Option<usize>,
+    /// Every other column, passed through in order.
+    passed: Vec<usize>,
+    /// The output header.
+    header: Vec<String>,
 }
 
-fn solve_batch<S: CliScalar>(robot: &Robot<S>, direction: Direction, input: &[u8]) -> Result<Vec<u8>, Failure> {
+/// Finds the input columns by name. Other columns are passed through
+/// after `status` (renamed `in_NAME` where NAME is an output column).
+fn columns(direction: Direction, header: &[String]) -> Result<Columns, Failure> {
     let (in_header, out_header) = direction.headers();
-    let mut reader = csv::ReaderBuilder::new().has_headers(false).flexible(true).from_reader(input);
-    let mut records = reader.byte_records();
     let want = in_header.join(",");
-    let header = match records.next() {
-        None => return Err(Failure(format!("no input: expected the CSV header {want} on stdin"))),
-        Some(Err(e)) => return Err(Failure(format!("cannot read the CSV header: {e}"))),
-        Some(Ok(h)) => h,
+    let find = |name: &str| -> Result<usize, Failure> {
+        let mut at = header.iter().enumerate().filter(|(_, h)| h.as_str() == name).map(|(i, _)| i);
+        match (at.next(), at.next()) {
+            (Some(i), None) => Ok(i),
+            (None, _) => Err(Failure(format!(
+                "wrong CSV header: no column {name} (expected {want}, other columns are passed through), found {}",
+                header.join(",")
+            ))),
+            (Some(_), Some(_)) => Err(Failure(format!("wrong CSV header: column {name} appears twice"))),
+        }
     };
-    let got: Vec<String> = header.iter().map(|f| String::from_utf8_lossy(f).trim().to_owned()).collect();
-    if got != in_header {
-        return Err(Failure(format!("wrong CSV header: expected {want}, found {}", got.join(","))));
+    let values = [find(in_header[0])?, find(in_header[1])?, find(in_header[2])?];
+    let status = match header.iter().filter(|h| h.as_str() == "status").count() {
+        0 => None,
+        1 => Some(find("status")?),
+        _ => return Err(Failure("wrong CSV header: column status appears twice".into())),
+    };
+    let passed: Vec<usize> = (0..header.len()).filter(|i| !values.contains(i) && status != Some(*i)).collect();
+    let mut out: Vec<String> = out_header.iter().map(|&h| h.to_owned()).collect();
+    out.push("status".into());
+    for &i in &passed {
+        let name = header.get(i).map_or("", String::as_str);
+        out.push(if out_header.contains(&name) { format!("in_{name}") } else { name.to_owned() });
     }
-    let mut out = Vec::with_capacity(input.len() * 2);
-    out.extend_from_slice(out_header.join(",").as_bytes());
-    out.extend_from_slice(b",status\n");
-    for (line, record) in records.enumerate() {
-        let row = match record {
-            Ok(r) => parse_row(&r).map_or_else(|| format!(",,,{BAD_ROW}"), |v| solve_row(robot, direction, v)),
-            // A malformed record (bad quoting) is a bad row; an I/O error is not.
+    Ok(Columns { values, status, passed, header: out })
+}
+
+/// Reads `input` one record at a time (a buffer of
+/// [`BATCH_BUFFER_BYTES`]) and writes each row as soon as it is solved.
+fn solve_batch<S: CliScalar, R: Read, W: Write>(
+    robot: &Robot<S>,
+    direction: Direction,
+    input: R,
+    output: W,
+) -> Result<(), Stop> {
+    let (in_header, _) = direction.headers();
+    let want = in_header.join(",");
+    let mut reader = csv::ReaderBuilder::new()
+        .has_headers(false)
+        .flexible(true)
+        .buffer_capacity(BATCH_BUFFER_BYTES)
+        .from_reader(input);
+    let mut record = csv::ByteRecord::new();
+    let read_failure = |e: csv::Error, what: &str| Stop::Failed(Failure(format!("cannot read {what}: {e}")));
+    match reader.read_byte_record(&mut record) {
+        Ok(true) => {}
+        Ok(false) => return Err(Stop::Failed(Failure(format!("no input: expected the CSV header {want}")))),
+        Err(e) => return Err(read_failure(e, "the CSV header")),
+    }
+    let header: Vec<String> = record.iter().map(|f| String::from_utf8_lossy(f).trim().to_owned()).collect();
+    let cols = columns(direction, &header)?;
+    let width = header.len();
+    let mut writer = csv::WriterBuilder::new().buffer_capacity(BATCH_BUFFER_BYTES).from_writer(output);
+    let stop = |e: csv::Error| match e.into_kind() {
+        csv::ErrorKind::Io(e) => write_stop(&e),
+        other => Stop::Failed(Failure(format!("cannot write stdout: {other:?}"))),
+    };
+    writer.write_record(&cols.header).map_err(stop)?;
+    let mut row: Vec<Vec<u8>> = Vec::with_capacity(cols.header.len());
+    let mut line = 1usize;
+    loop {
+        line += 1;
+        let good = match reader.read_byte_record(&mut record) {
+            Ok(false) => break,
+            Ok(true) => true,
+            // A malformed record (bad quoting, bad UTF-8) is a bad row; an
+            // I/O error is not.
             Err(e) if matches!(e.kind(), csv::ErrorKind::Io(_)) => {
-                return Err(Failure(format!("cannot read input row {}: {e}", line + 1)));
+                return Err(read_failure(e, &format!("input line {line}")));
             }
-            Err(_) => format!(",,,{BAD_ROW}"),
+            Err(_) => false,
         };
-        out.extend_from_slice(row.as_bytes());
-        out.push(b'\n');
+        let field = |i: usize| record.get(i).map(|f| String::from_utf8_lossy(f).trim().to_owned());
+        let number = |i: usize| field(i).and_then(|t| t.parse::<f64>().ok());
+        let upstream = cols.status.and_then(field).filter(|s| !s.is_empty() && s != "ok");
+        let result = if !good || record.len() != width {
+            Err(BAD_ROW.to_owned())
+        } else if let Some(status) = upstream {
+            // Failed at an earlier stage: keep its status.
+            Err(status)
+        } else {
+            match cols.values.map(number) {
+                [Some(a), Some(b), Some(c)] => solve_row(robot, direction, [a, b, c]),
+                _ => Err(BAD_ROW.to_owned()),
+            }
+        };
+        row.clear();
+        match result {
+            Ok(values) => {
+                row.extend(values.map(String::into_bytes));
+                row.push(b"ok".to_vec());
+            }
+            Err(status) => {
+                row.extend([Vec::new(), Vec::new(), Vec::new()]);
+                row.push(status.into_bytes());
+            }
+        }
+        for &i in &cols.passed {
+            row.push(if good { record.get(i).unwrap_or_default().to_vec() } else { Vec::new() });
+        }
+        writer.write_record(&row).map_err(stop)?;
     }
-    Ok(out)
+    writer.flush().map_err(|e| write_stop(&e))
 }
 
 fn run_batch(args: &SolveArgs, direction: Direction) -> Result<ExitCode, Failure> {
     let robot = load_robot(args.robot.as_deref())?;
-    let mut input = Vec::new();
-    std::io::stdin().lock().read_to_end(&mut input).map_err(|e| Failure(format!("cannot read stdin: {e}")))?;
-    let output = args.scalar.dispatch(Batch { direction, robot: &robot, input: &input })?;
-    let mut stdout = BufWriter::new(std::io::stdout().lock());
-    stdout
-        .write_all(&output)
-        .and_then(|()| stdout.flush())
-        .map_err(|e| Failure(format!("cannot write stdout: {e}")))?;
-    Ok(ExitCode::SUCCESS)
+    let output = std::io::stdout().lock();
+    let result = match args.input.as_deref().filter(|p| *p != Path::new("-")) {
+        None => args.scalar.dispatch(Batch { direction, robot: &robot, input: std::io::stdin().lock(), output }),
+        Some(path) => {
+            let file =
+                std::fs::File::open(path).map_err(|e| Failure(format!("cannot read {}: {e}", path.display())))?;
+            args.scalar.dispatch(Batch { direction, robot: &robot, input: file, output })
+        }
+    };
+    match result {
+        Ok(()) | Err(Stop::Closed) => Ok(ExitCode::SUCCESS),
+        Err(Stop::Failed(f)) => Err(f),
+    }
 }
 
 /// The volume search's density for an IK sweep density: coarser for a
@@ -513,14 +645,30 @@ fn run_plan(args: &PlanArgs) -> Result<ExitCode, Failure> {
     // `plan::run` writes only once the whole program has run: a refused
     // move leaves stdout empty.
     let mut stdout = BufWriter::new(std::io::stdout().lock());
-    let summary = plan::run(&robot, &text, args.rate_hz, args.scalar, &mut stdout).map_err(|e| match e {
+    let summary = match plan::run(&robot, &text, args.rate_hz, args.scalar, &mut stdout)
+        .and_then(|summary| stdout.flush().map(|()| summary).map_err(plan::PlanError::Io))
+    {
+        Ok(summary) => summary,
+        // The reader went away (`deltakin plan | head`): end quietly.
+        Err(plan::PlanError::Io(e)) if closed_pipe(&e) => return Ok(ExitCode::SUCCESS),
         // A robot-file problem names the robot file, not the moves file.
-        plan::PlanError::Robot(e) => Failure::from(e),
-        e => Failure(format!("{}: {e}", args.moves.display())),
-    })?;
-    stdout.flush().map_err(|e| Failure(format!("cannot write stdout: {e}")))?;
+        Err(plan::PlanError::Robot(e)) => return Err(Failure::from(e)),
+        Err(plan::PlanError::Io(e)) => return Err(Failure(format!("cannot write stdout: {e}"))),
+        Err(e) => return Err(Failure(format!("{}: {e}", args.moves.display()))),
+    };
     eprintln!("{summary}");
     Ok(ExitCode::SUCCESS)
+}
+
+/// Writes `text` to stdout: `Ok(false)` when the reader went away (a
+/// closed pipe, which ends a command quietly with status 0).
+fn write_stdout(text: &str) -> Result<bool, Failure> {
+    let mut stdout = std::io::stdout().lock();
+    match stdout.write_all(text.as_bytes()).and_then(|()| stdout.flush()) {
+        Ok(()) => Ok(true),
+        Err(e) if closed_pipe(&e) => Ok(false),
+        Err(e) => Err(Failure(format!("cannot write stdout: {e}"))),
+    }
 }
 
 fn run_report(args: &ReportArgs) -> Result<ExitCode, Failure> {
@@ -561,11 +709,9 @@ fn run_report(args: &ReportArgs) -> Result<ExitCode, Failure> {
     let passed = Report::gates_pass(&gates);
     let full = Report { accuracy: findings, volume, host_timing, targets, gate_limits, gates, passed, plots };
     let text = report::tables(&full);
-    let mut stdout = std::io::stdout().lock();
-    stdout
-        .write_all(text.as_bytes())
-        .and_then(|()| stdout.flush())
-        .map_err(|e| Failure(format!("cannot write stdout: {e}")))?;
+    // A closed pipe (`deltakin report | head`) is quiet; the JSON and the
+    // gate verdict's exit status still follow.
+    write_stdout(&text)?;
     if let Some(path) = &args.json {
         report::write_json(&full, path).map_err(Failure)?;
     }
@@ -584,7 +730,7 @@ fn run_calibrate(args: &CalibrateArgs) -> Result<ExitCode, Failure> {
             let d = j.map(f64::to_degrees);
             out += &format!("{:?},{:?},{:?}\n", d[0], d[1], d[2]);
         }
-        print!("{out}");
+        write_stdout(&out)?;
         return Ok(ExitCode::SUCCESS);
     }
     if !(args.noise_mm.is_finite() && args.noise_mm > 0.0) {
@@ -594,7 +740,7 @@ fn run_calibrate(args: &CalibrateArgs) -> Result<ExitCode, Failure> {
     let text = std::fs::read_to_string(path).map_err(|e| Failure(format!("{}: {e}", path.display())))?;
     let (mode, points) = measurements::parse(&text).map_err(|e| Failure(format!("{}: {e}", path.display())))?;
     let fit = fit::fit_robot(&robot, mode, &points).map_err(|e| Failure(format!("{}: {e}", path.display())))?;
-    print!("{}", output::text(&fit, args.noise_mm, args.per_point));
+    write_stdout(&output::text(&fit, args.noise_mm, args.per_point))?;
     if let Some(out) = &args.out {
         let original = match &args.robot {
             Some(p) => std::fs::read_to_string(p).map_err(|e| Failure(format!("{}: {e}", p.display())))?,
@@ -647,14 +793,44 @@ mod tests {
         Cli::command().debug_assert();
     }
 
+    fn batch(direction: Direction, input: &[u8]) -> Result<Vec<u8>, Stop> {
+        let robot = RobotFile::demo().robot::<f64>().unwrap();
+        let mut out = Vec::new();
+        solve_batch(&robot, direction, input, &mut out).map(|()| out)
+    }
+
     #[test]
     fn header_mismatch_and_missing_header_fail() {
-        let robot = RobotFile::demo().robot::<f64>().unwrap();
-        assert!(solve_batch(&robot, Direction::Inverse, b"").is_err());
-        assert!(solve_batch(&robot, Direction::Inverse, b"x,y,z\n1,2,3\n").is_err());
-        assert!(solve_batch(&robot, Direction::Forward, b"x_mm,y_mm,z_mm\n").is_err());
-        let ok = solve_batch(&robot, Direction::Forward, b"theta0_deg,theta1_deg,theta2_deg\n").unwrap();
+        assert!(batch(Direction::Inverse, b"").is_err());
+        assert!(batch(Direction::Inverse, b"x,y,z\n1,2,3\n").is_err());
+        assert!(batch(Direction::Forward, b"x_mm,y_mm,z_mm\n").is_err());
+        assert!(batch(Direction::Inverse, b"x_mm,y_mm,z_mm,x_mm\n").is_err());
+        let ok = batch(Direction::Forward, b"theta0_deg,theta1_deg,theta2_deg\n").ok().unwrap();
         assert_eq!(ok, b"x_mm,y_mm,z_mm,status\n");
+    }
+
+    #[test]
+    fn columns_are_found_by_name_and_the_rest_passed_through() {
+        let out =
+            batch(Direction::Inverse, b"id,z_mm,y_mm,x_mm,theta0_deg\nA,-700,0,0,q\nB,-5000,0,0,r\n").ok().unwrap();
+        let text = String::from_utf8(out).unwrap();
+        let lines: Vec<&str> = text.lines().collect();
+        assert_eq!(lines[0], "theta0_deg,theta1_deg,theta2_deg,status,id,in_theta0_deg");
+        assert!(lines[1].ends_with(",ok,A,q"), "{}", lines[1]);
+        assert!(lines[2].starts_with(",,,unreachable_arm"), "{}", lines[2]);
+        assert!(lines[2].ends_with(",B,r"), "{}", lines[2]);
+    }
+
+    #[test]
+    fn a_failed_status_from_an_earlier_stage_is_kept() {
+        let out =
+            batch(Direction::Forward, b"theta0_deg,theta1_deg,theta2_deg,status\n,,,unreachable_arm1\n10,10,10,ok\n")
+                .ok()
+                .unwrap();
+        let text = String::from_utf8(out).unwrap();
+        let lines: Vec<&str> = text.lines().collect();
+        assert_eq!(lines, ["x_mm,y_mm,z_mm,status", ",,,unreachable_arm1", lines[2]]);
+        assert!(lines[2].ends_with(",ok"), "{}", lines[2]);
     }
 
     #[test]

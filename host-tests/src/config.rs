@@ -325,18 +325,41 @@ impl RobotFile {
         toml::from_str(text).map_err(|e| ConfigError::Parse(e.to_string()))
     }
 
-    /// Reads and parses a robot file, or the demo robot when `path` is `None`.
+    /// Reads and parses a robot file, or the demo robot when `path` is `None`;
+    /// prints each of [`RobotFile::warnings`] on stderr.
     ///
     /// # Errors
     /// [`ConfigError::Read`] or [`ConfigError::Parse`].
     pub fn load(path: Option<&Path>) -> Result<Self, ConfigError> {
-        match path {
-            None => Self::parse(DEMO_ROBOT_TOML),
+        let file = match path {
+            None => Self::parse(DEMO_ROBOT_TOML)?,
             Some(p) => {
                 let text = std::fs::read_to_string(p).map_err(|e| ConfigError::Read(p.to_path_buf(), e))?;
-                Self::parse(&text)
+                Self::parse(&text)?
             }
+        };
+        for w in file.warnings() {
+            eprintln!("deltakin: warning: {w}");
         }
+        Ok(file)
+    }
+
+    /// What the file allows that is valid but unwise: a minimum margin of
+    /// 0 switches that singularity guard off up to the singularity itself
+    /// (see [`deltakin::Limits`]).
+    #[must_use]
+    pub fn warnings(&self) -> Vec<String> {
+        let l = &self.limits;
+        [("min_serial_margin", l.min_serial_margin), ("min_parallel_margin", l.min_parallel_margin)]
+            .into_iter()
+            .filter(|&(_, v)| v == 0.0)
+            .map(|(key, _)| {
+                format!(
+                    "[limits] {key} = 0 accepts poses up to the singularity itself, where joint rates and \
+                     torques grow without bound; use a positive minimum for a machine that moves"
+                )
+            })
+            .collect()
     }
 
     /// The demo robot.

@@ -8,6 +8,7 @@ pub mod config;
 pub mod contract;
 pub mod crosscheck;
 pub mod gates;
+pub mod numtext;
 pub mod plan;
 pub mod plots;
 pub mod progress;

@@ -60,8 +60,9 @@
 //! CSV with the header
 //! `t_s,x_mm,y_mm,z_mm,theta0_deg,theta1_deg,theta2_deg,omega0_deg_s,omega1_deg_s,omega2_deg_s`,
 //! a first row at `t = 0` (the start pose, at rest) and then one row per
-//! cycle. Numbers carry 9 significant digits for `f32` and 17 for `f64`,
-//! enough to round-trip. A [`Summary`] goes to the caller (the CLI prints
+//! cycle. Numbers follow the CLI's one format ([`crate::numtext`]): the
+//! shortest plain decimal that reads back to the same value at the
+//! precision of the number type that computed it (time in `f64`). A [`Summary`] goes to the caller (the CLI prints
 //! it on stderr). Nothing is written until every move has been accepted
 //! and streamed, so a refused program leaves the output empty.
 //!
@@ -80,23 +81,10 @@ use serde::Deserialize;
 
 use crate::cli::ScalarKind;
 use crate::config::{BadNumber, ConfigError, PerArm, RobotFile, number, per_arm};
+use crate::numtext::{self, Precision};
 
 /// Moves the stream's queue holds (the one running included).
 pub const QUEUE_CAPACITY: usize = 8;
-
-/// Significant digits that round-trip a value of this number type in the
-/// CSV (9 for `f32`, 17 for `f64`). Fixed point: 12, which resolves every
-/// value the stream prints below its least significant bit (positions in
-/// Q18.14 mm below 10 m to 1e-8 mm against an LSB of 6.1e-5 mm; angles in
-/// Q7.25 rad, printed in degrees, to 1e-9 deg against 1.7e-6 deg).
-#[must_use]
-pub const fn digits(scalar: ScalarKind) -> usize {
-    match scalar {
-        ScalarKind::F32 => 9,
-        ScalarKind::F64 => 17,
-        ScalarKind::Fixed => 12,
-    }
-}
 
 /// The name of a number type on the command line.
 #[must_use]
@@ -502,9 +490,15 @@ fn xyz<T: Arith>(key: &str, v: [f64; 3], to_core: fn(f64) -> f64) -> Result<[T; 
     Ok([one(0)?, one(1)?, one(2)?])
 }
 
-/// Writes `v` with `digits` significant digits.
-fn num_text(out: &mut dyn Write, v: f64, digits: usize) -> std::io::Result<()> {
-    write!(out, "{:.*e}", digits.saturating_sub(1), v)
+/// The precision the CSV prints a number type's values at (see
+/// [`crate::numtext`]): `f32` values as `f32`, `f64` and fixed-point ones
+/// (exact in `f64`) as `f64`.
+#[must_use]
+pub const fn precision(scalar: ScalarKind) -> Precision {
+    match scalar {
+        ScalarKind::F32 => Precision::F32,
+        ScalarKind::F64 | ScalarKind::Fixed => Precision::F64,
+    }
 }
 
 /// One cycle of a plan, in f64 (exactly the streamed values: every `f32`
@@ -522,14 +516,14 @@ pub struct Row {
 }
 
 impl Row {
-    /// The row as CSV: time, position (mm), joints (deg), joint rates
-    /// (deg/s), each with `digits` significant digits.
-    fn write(&self, out: &mut dyn Write, digits: usize) -> std::io::Result<()> {
-        num_text(out, self.t_s, digits)?;
+    /// The row as CSV: time (s, at `f64` precision), position (mm),
+    /// joints (deg), joint rates (deg/s), each at `precision`.
+    fn write(&self, out: &mut dyn Write, precision: Precision) -> std::io::Result<()> {
+        numtext::write(out, self.t_s, Precision::F64)?;
         let deg = |v: [f64; 3]| v.map(f64::to_degrees);
         for v in self.position_mm.into_iter().chain(deg(self.joints_rad)).chain(deg(self.rates_rad_s)) {
             out.write_all(b",")?;
-            num_text(out, v, digits)?;
+            numtext::write(out, v, precision)?;
         }
         out.write_all(b"\n")
     }
@@ -652,10 +646,10 @@ pub fn run_with<S: Real, P: Real<Wide = P>>(
     out: &mut dyn Write,
 ) -> Result<Summary, PlanError> {
     let (rows, summary) = plan_with::<S, P>(robot_file, moves, rate_hz, scalar)?;
-    let digits = digits(scalar);
+    let precision = precision(scalar);
     writeln!(out, "{CSV_HEADER}")?;
     for r in &rows {
-        r.write(out, digits)?;
+        r.write(out, precision)?;
     }
     Ok(summary)
 }
@@ -707,12 +701,20 @@ mod tests {
                 assert!(s.peak_speed_deg_s[arm] <= s.speed_limit_deg_s[arm]);
                 assert!(s.peak_accel_deg_s2[arm] <= s.accel_limit_deg_s2[arm]);
             }
-            // Every row has ten numbers with the round-trip digit count.
+            // Every row has ten numbers, plain decimals that read back to
+            // the streamed value at the scalar's precision.
             for line in &lines[1..] {
                 let fields: Vec<&str> = line.split(',').collect();
                 assert_eq!(fields.len(), 10);
-                let mantissa = fields[1].split('e').next().unwrap().trim_start_matches('-');
-                assert_eq!(mantissa.len(), digits(scalar) + 1, "{line}");
+                for f in &fields {
+                    assert!(!f.contains('e') && f.parse::<f64>().is_ok(), "{line}");
+                }
+                if scalar == ScalarKind::F32 {
+                    let x: f64 = fields[1].parse().unwrap();
+                    #[allow(clippy::cast_possible_truncation)]
+                    let back = f64::from(x as f32);
+                    assert_eq!(numtext::text(back, Precision::F32), fields[1], "{line}");
+                }
             }
             assert!(!format!("{s}").is_empty());
             // The two lines back to the middle meet at a 13 degree corner:

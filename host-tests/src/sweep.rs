@@ -403,7 +403,13 @@ mod tests {
     #[test]
     fn geometry_box_encloses_the_extreme_poses() {
         let g = Geometry { base_radius: 160.0, platform_radius: 40.0, upper_arm: 280.0, lower_arm: 720.0 };
-        let l = Limits::uniform(-0.6, 1.5, 0.7, 0.1, 0.1);
+        let l = Limits {
+            joint_min: [-0.6; 3],
+            joint_max: [1.5; 3],
+            passive_cone: 0.7,
+            min_serial_margin: 0.1,
+            min_parallel_margin: 0.1,
+        };
         let b = geometry_box(&g, &l);
         assert_eq!(b.hi[0], 120.0 + 1000.0);
         // sin is largest at 1.5 rad (inside the range, below pi/2).

@@ -6,6 +6,7 @@ use std::path::PathBuf;
 use std::process::{Command, Output, Stdio};
 
 use deltakin_harness::bounds;
+use deltakin_harness::cli::status_text;
 use deltakin_harness::config::{DEMO_ROBOT_TOML, RobotFile};
 
 const IK_HEADER: &str = "theta0_deg,theta1_deg,theta2_deg,status";
@@ -126,7 +127,7 @@ fn headers_are_exact_and_row_order_is_kept() {
                 // The printed value reads back to exactly the f64 degrees.
                 assert_eq!(angles, Some(s.joints.map(f64::to_degrees)), "{p:?}");
             }
-            Err(e) => assert_eq!(status, e.status_word(), "{p:?}"),
+            Err(e) => assert_eq!(status, status_text(&e), "{p:?}"),
         }
     }
     let fk = run(&["fk"], &format!("{JOINT_IN}\n10,20,30\n"));
@@ -150,8 +151,9 @@ fn non_finite_and_unreachable_rows_name_their_error() {
         let input = format!("{POSITION_IN}\nnan,0,-700\n0,inf,-700\n0,0,-5000\n1e39,0,-700\n");
         let out = run(&["ik", "--scalar", scalar], &input);
         let status: Vec<String> = stdout_lines(&out)[1..].iter().map(|l| parse_out_row(l).1).collect();
-        let big = if scalar == "f32" { "non_finite" } else { "unreachable" };
-        assert_eq!(status, ["non_finite", "non_finite", "unreachable", big], "{scalar}");
+        // Unreachable rows name the arm that cannot reach (arm 0 is checked first).
+        let big = if scalar == "f32" { "non_finite" } else { "unreachable_arm0" };
+        assert_eq!(status, ["non_finite", "non_finite", "unreachable_arm0", big], "{scalar}");
         let out = run(&["fk", "--scalar", scalar], &format!("{JOINT_IN}\n10,NaN,10\n"));
         assert_eq!(parse_out_row(&stdout_lines(&out)[1]).1, "non_finite");
     }
@@ -649,4 +651,111 @@ fn a_per_arm_robot_file_is_used_by_ik_fk_and_plan() {
     assert_eq!(out.status.code(), Some(EXIT_USAGE));
     let msg = String::from_utf8_lossy(&out.stderr);
     assert!(msg.contains("arm 1 actuator azimuth"), "{msg}");
+}
+
+#[test]
+fn ik_output_pipes_into_fk_and_failed_rows_keep_their_status() {
+    let ik = run(&["ik", "--scalar", "f64"], &format!("{POSITION_IN},id\n0,0,-700,a\n0,0,-5000,b\n100,50,-650,c\n"));
+    assert!(ik.status.success());
+    let ik_text = String::from_utf8(ik.stdout.clone()).unwrap();
+    assert_eq!(stdout_lines(&ik)[0], format!("{IK_HEADER},id"));
+    let fk = run(&["fk", "--scalar", "f64"], &ik_text);
+    assert!(fk.status.success(), "{}", String::from_utf8_lossy(&fk.stderr));
+    let lines = stdout_lines(&fk);
+    assert_eq!(lines[0], format!("{FK_HEADER},id"));
+    let want = [([0.0, 0.0, -700.0], "a"), ([100.0, 50.0, -650.0], "c")];
+    for (line, (p, id)) in [&lines[1], &lines[3]].into_iter().zip(want) {
+        let f: Vec<&str> = line.split(',').collect();
+        assert_eq!((f[3], f[4]), ("ok", id), "{line}");
+        for k in 0..3 {
+            let v: f64 = f[k].parse().unwrap();
+            assert!((v - p[k]).abs() <= bounds::F64_POS_ERR_MM, "{line}");
+        }
+    }
+    assert_eq!(lines[2], ",,,unreachable_arm0,b");
+}
+
+#[test]
+fn ik_and_fk_read_a_file_argument_like_stdin() {
+    let input = format!("{POSITION_IN}\n0,0,-700\n120,-80,-650\n");
+    let path = temp_file("ik_input.csv", &input);
+    let from_file = run(&["ik", path.to_str().unwrap()], "");
+    let from_stdin = run(&["ik"], &input);
+    let dash = run(&["ik", "-"], &input);
+    assert!(from_file.status.success());
+    assert_eq!(from_file.stdout, from_stdin.stdout);
+    assert_eq!(dash.stdout, from_stdin.stdout);
+    let missing = run(&["fk", "/no/such/input.csv"], "");
+    assert_eq!(missing.status.code(), Some(EXIT_USAGE));
+    assert!(String::from_utf8_lossy(&missing.stderr).contains("/no/such/input.csv"));
+}
+
+/// Runs `args` with stdout into a pipe that is closed after `keep` bytes.
+fn run_into_closed_pipe(args: &[&str], stdin: &str, keep: usize) -> Output {
+    use std::io::Read;
+    let mut child = Command::new(env!("CARGO_BIN_EXE_deltakin"))
+        .args(args)
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("start deltakin");
+    let mut stdin_pipe = child.stdin.take().expect("stdin");
+    let text = stdin.to_owned();
+    let feeder = std::thread::spawn(move || {
+        let _ = stdin_pipe.write_all(text.as_bytes());
+    });
+    let mut first = vec![0u8; keep];
+    child.stdout.take().expect("stdout").read_exact(&mut first).expect("first bytes");
+    // The stdout pipe is dropped here: the reader has gone away.
+    let out = child.wait_with_output().expect("deltakin output");
+    feeder.join().expect("feeder");
+    out
+}
+
+#[test]
+fn a_closed_pipe_ends_plan_ik_and_fk_quietly() {
+    let moves = demo_moves_path();
+    let plan = run_into_closed_pipe(&["plan", "--moves", moves.to_str().unwrap()], "", 200);
+    assert_eq!(plan.status.code(), Some(0), "{}", String::from_utf8_lossy(&plan.stderr));
+    assert!(plan.stderr.is_empty(), "{}", String::from_utf8_lossy(&plan.stderr));
+    // Enough rows that the output outgrows every buffer on the way.
+    let mut input = format!("{POSITION_IN}\n");
+    for _ in 0..200_000 {
+        input.push_str("10,20,-700\n");
+    }
+    let ik = run_into_closed_pipe(&["ik"], &input, 100);
+    assert_eq!(ik.status.code(), Some(0), "{}", String::from_utf8_lossy(&ik.stderr));
+    assert!(ik.stderr.is_empty(), "{}", String::from_utf8_lossy(&ik.stderr));
+}
+
+#[test]
+fn plan_ik_and_fk_print_plain_decimals_that_round_trip() {
+    let moves = demo_moves_path();
+    let plan = run(&["plan", "--moves", moves.to_str().unwrap(), "--scalar", "f64"], "");
+    assert!(plan.status.success());
+    let ik = run(&["ik"], &format!("{POSITION_IN}\n12.5,-7.25,-700\n"));
+    for out in [&plan, &ik] {
+        for line in stdout_lines(out).iter().skip(1).take(50) {
+            for field in line.split(',').filter(|f| !f.is_empty() && *f != "ok") {
+                assert!(!field.contains('e'), "exponent in {line}");
+                let v: f64 = field.parse().expect("number");
+                assert_eq!(format!("{v}"), *field, "not the shortest text in {line}");
+            }
+        }
+    }
+}
+
+#[test]
+fn a_zero_margin_robot_file_is_warned_about() {
+    let file = temp_file(
+        "zero_margin.toml",
+        &DEMO_ROBOT_TOML.replace("min_parallel_margin = 0.1", "min_parallel_margin = 0.0"),
+    );
+    let out = run(&["ik", "--robot", file.to_str().unwrap()], &format!("{POSITION_IN}\n0,0,-700\n"));
+    assert!(out.status.success());
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.contains("warning") && err.contains("min_parallel_margin"), "{err}");
+    let demo = run(&["ik"], &format!("{POSITION_IN}\n0,0,-700\n"));
+    assert!(demo.stderr.is_empty());
 }

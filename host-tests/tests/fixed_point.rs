@@ -36,7 +36,13 @@ const ELBOW_TIE_COS: f64 = 1e-9;
 const LSB: f64 = 1.0 / 33_554_432.0;
 
 fn limits_f64() -> Limits<f64> {
-    Limits::uniform(-0.7, 1.5, 0.75, 0.08, 0.08)
+    Limits {
+        joint_min: [-0.7; 3],
+        joint_max: [1.5; 3],
+        passive_cone: 0.75,
+        min_serial_margin: 0.08,
+        min_parallel_margin: 0.08,
+    }
 }
 
 /// A geometry from the lower arm (mm) and ratios to it: upper arm `a`,
@@ -351,7 +357,13 @@ impl Corner {
                 let g = lo + f * (hi - lo);
                 let mid = ((g - d) / a).clamp(-1.0, 1.0).acos();
                 let mid = if mid_negative { -mid } else { mid };
-                let l = Limits::uniform((mid - half_width).max(-3.1), (mid + half_width).min(3.1), cone, 0.1, 0.1);
+                let l = Limits {
+                    joint_min: [(mid - half_width).max(-3.1); 3],
+                    joint_max: [(mid + half_width).min(3.1); 3],
+                    passive_cone: cone,
+                    min_serial_margin: 0.1,
+                    min_parallel_margin: 0.1,
+                };
                 let (_, held) = fixed_robot(&geometry(lower, a, d, pr), &l)
                     .unwrap_or_else(|e| panic!("inside the envelope: {lower} {a} {d} {pr}: {e}"));
                 let Ok(r64) = Robot::new(held, l) else { continue };
@@ -534,7 +546,13 @@ fn d_at_r(a: f64, r: f64) -> f64 {
 /// agrees with the reference.
 #[test]
 fn extreme_geometry_and_poses_do_not_overflow() {
-    let l = Limits::uniform(-0.5, 2.5, 1.2, 0.0, 0.0);
+    let l = Limits {
+        joint_min: [-0.5; 3],
+        joint_max: [2.5; 3],
+        passive_cone: 1.2,
+        min_serial_margin: 0.0,
+        min_parallel_margin: 0.0,
+    };
     let a = 0.75;
     let d = d_at_r(a, 1.249);
     for lower in [4000.0, 50.0] {
@@ -683,7 +701,13 @@ fn float_paths_unchanged_in_shape() {
 fn small_machine_ik_at_serial_margin_0_1_meets_the_bound_on_its_held_dimensions() {
     let written =
         Geometry { base_radius: 52.594_813_396_265_33, platform_radius: 1.0, upper_arm: 10.05, lower_arm: 50.0 };
-    let l = Limits::uniform(60f64.to_radians(), 170f64.to_radians(), 60f64.to_radians(), 0.1, 0.1);
+    let l = Limits {
+        joint_min: [60f64.to_radians(); 3],
+        joint_max: [170f64.to_radians(); 3],
+        passive_cone: 60f64.to_radians(),
+        min_serial_margin: 0.1,
+        min_parallel_margin: 0.1,
+    };
     let (robot, held) = fixed_robot(&written, &l).expect("inside the envelope");
     let target = [1.330_139_160_156_25, 6.477_539_062_5, -15.707_580_566_406_25];
     let got = robot.inverse(target.map(wide)).expect("a guarded pose");
@@ -716,7 +740,13 @@ const DIMENSION_ROUNDING_SHIFT_RAD: (f64, f64) = (10e-6, 15e-6);
 #[test]
 fn short_upper_arm_fk_keeps_the_small_centre_triangle_precise() {
     let g0 = Geometry { base_radius: 2000.0, platform_radius: 2000.0, upper_arm: 802.0, lower_arm: 4000.0 };
-    let l = Limits::uniform((-35f64).to_radians(), 85f64.to_radians(), 60f64.to_radians(), 0.1, 0.1);
+    let l = Limits {
+        joint_min: [(-35f64).to_radians(); 3],
+        joint_max: [85f64.to_radians(); 3],
+        passive_cone: 60f64.to_radians(),
+        min_serial_margin: 0.1,
+        min_parallel_margin: 0.1,
+    };
     let (robot, g) = fixed_robot(&g0, &l).expect("inside the envelope");
     assert_eq!(g, g0, "integer millimetres are held exactly");
     let joints =
@@ -797,7 +827,13 @@ fn platform_joint_near_the_actuator_axis_is_solved_not_refused() {
         upper_arm: 3526.027_221_679_687_5,
         lower_arm: 4000.0,
     };
-    let l = Limits::uniform(-3.0, 3.0, 1.5, 0.1, 0.1);
+    let l = Limits {
+        joint_min: [-3.0; 3],
+        joint_max: [3.0; 3],
+        passive_cone: 1.5,
+        min_serial_margin: 0.1,
+        min_parallel_margin: 0.1,
+    };
     let (robot, g) = fixed_robot(&g0, &l).expect("inside the envelope");
     let target = [-52.459_960_937_5, -1972.826_782_226_562_5, -403.035_644_531_25];
     let got = robot.inverse_unguarded(target.map(wide)).expect("reachable");

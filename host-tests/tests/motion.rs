@@ -326,7 +326,7 @@ fn closed_pick_cycle_drift<S: Real>() -> (f64, f64) {
         if step.setpoint.end_of_move {
             last = step.setpoint.position;
             leg += 1;
-            if leg % 2 == 0 {
+            if leg.is_multiple_of(2) {
                 let d = dist(last, a);
                 worst_return = worst_return.max(d);
             }

@@ -13,7 +13,13 @@ const PAPER_TOL_DEG: f64 = 0.05;
 /// solvers); the neutral pose at 0.75 rad assembles on every machine below.
 fn open_limits<S: deltakin::Real>() -> Limits<S> {
     let f = |v: f64| S::from_f64(v).expect("small constant");
-    Limits::uniform(f(-1.5), f(3.0), f(1.5), f(0.0), f(0.0))
+    Limits {
+        joint_min: [f(-1.5); 3],
+        joint_max: [f(3.0); 3],
+        passive_cone: f(1.5),
+        min_serial_margin: f(0.0),
+        min_parallel_margin: f(0.0),
+    }
 }
 
 /// The worked example of R. L. Williams II, "The Delta Parallel Robot:

@@ -124,7 +124,13 @@ fn machine(lower: f64, ratio: f64, offset: f64, platform: f64) -> (Geometry<f64>
     let geometry = Geometry { base_radius: platform_radius + d, platform_radius, upper_arm: upper, lower_arm: lower };
     let c = (0.3 * lower - d) / upper;
     let mid = if c >= 1.0 { 0.3 } else { c.acos() };
-    let limits = Limits::uniform((mid - 1.0).max(-3.1), (mid + 1.0).min(3.1), 0.7, 0.1, 0.1);
+    let limits = Limits {
+        joint_min: [(mid - 1.0).max(-3.1); 3],
+        joint_max: [(mid + 1.0).min(3.1); 3],
+        passive_cone: 0.7,
+        min_serial_margin: 0.1,
+        min_parallel_margin: 0.1,
+    };
     (geometry, limits, mid)
 }
 
@@ -298,7 +304,13 @@ fn fixed_cases() -> impl Strategy<Value = Case> {
             upper_arm: a * lower,
             lower_arm: lower,
         };
-        let limits = Limits::uniform(-0.7, 1.5, 0.75, 0.08, 0.08);
+        let limits = Limits {
+            joint_min: [-0.7; 3],
+            joint_max: [1.5; 3],
+            passive_cone: 0.75,
+            min_serial_margin: 0.08,
+            min_parallel_margin: 0.08,
+        };
         let robot = Robot::with_corrections(geometry, corrections, limits).ok()?;
         let position = robot.forward(theta).ok()?.position;
         if !reference::is_elbow_out(&PerArmMachine::new(&geometry, &corrections), theta, position) {
@@ -473,7 +485,17 @@ fn validation_names_the_arm_and_the_parameter() {
     let mut c = [ArmCorrection::ZERO; 3];
     c[1].upper_arm = -0.8;
     assert_eq!(
-        Robot::with_corrections(small, c, Limits::uniform(-0.5, 0.5, 1.5, 0.0, 0.0)),
+        Robot::with_corrections(
+            small,
+            c,
+            Limits {
+                joint_min: [-0.5; 3],
+                joint_max: [0.5; 3],
+                passive_cone: 1.5,
+                min_serial_margin: 0.0,
+                min_parallel_margin: 0.0
+            }
+        ),
         bad(1, UpperArm, TooSmall)
     );
     let close = Geometry { upper_arm: 700.0, ..g };
@@ -502,7 +524,13 @@ fn fixed_point_refuses_an_arm_that_leaves_its_envelope_and_names_the_parameter()
         lower_arm: FixedWide::from_f64(lower).unwrap(),
     };
     let f = |v: f64| Fixed::from_f64(v).unwrap();
-    let l = Limits::uniform(f(-0.7), f(1.5), f(0.75), f(0.08), f(0.08));
+    let l = Limits {
+        joint_min: [f(-0.7); 3],
+        joint_max: [f(1.5); 3],
+        passive_cone: f(0.75),
+        min_serial_margin: f(0.08),
+        min_parallel_margin: f(0.08),
+    };
     Robot::new(g, l).expect("inside the envelope");
     let mut c = [ArmCorrection::<Fixed>::ZERO; 3];
     c[1].upper_arm = FixedWide::from_f64(5.0).unwrap();

@@ -164,7 +164,13 @@ fn machine(lower: f64, ratio: f64, offset: f64, platform: f64) -> (Geometry<f64>
     // d + upper cos(mid) = 0.3 lower, when the arm can do that.
     let c = (0.3 * lower - d) / upper;
     let mid = if c >= 1.0 { 0.3 } else { c.acos() };
-    let limits = Limits::uniform((mid - 1.0).max(-3.1), (mid + 1.0).min(3.1), 0.7, 0.1, 0.1);
+    let limits = Limits {
+        joint_min: [(mid - 1.0).max(-3.1); 3],
+        joint_max: [(mid + 1.0).min(3.1); 3],
+        passive_cone: 0.7,
+        min_serial_margin: 0.1,
+        min_parallel_margin: 0.1,
+    };
     (geometry, limits, mid)
 }
 

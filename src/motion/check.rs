@@ -158,6 +158,8 @@ const TIME_SCALING_HEADROOM_GROWTH: f64 = 8.0;
 
 /// Joint speed (rad/s) and acceleration (rad/s^2) limits of each arm.
 #[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+#[cfg_attr(feature = "serde", serde(deny_unknown_fields))]
 pub struct JointRateLimits<S> {
     /// Largest joint speed of each arm (rad/s).
     pub speed: [S; 3],

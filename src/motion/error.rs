@@ -8,6 +8,7 @@ use crate::error::Error;
 /// What is wrong with a move's parameters (found before any sampling).
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 #[non_exhaustive]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub enum MoveFault {
     /// A number in the move (target, bound, lift, radius, duration) is NaN
     /// or infinite.
@@ -26,6 +27,7 @@ pub enum MoveFault {
 /// Why a move was refused, or why a stream stopped.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 #[non_exhaustive]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub enum MotionFault {
     /// A sample failed the guarded kinematics: unreachable, a joint range,
     /// a passive-joint cone or a singularity margin (the inner error names
@@ -71,6 +73,7 @@ pub enum MotionFault {
 /// (1 is the first cycle after the move starts; 0 when the fault was found
 /// before sampling). Multiply by the cycle period for seconds.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct MotionError {
     /// Cycle of the move at which the fault was found (0: before sampling).
     pub cycle: u32,

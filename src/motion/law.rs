@@ -40,6 +40,9 @@ use crate::scalar::{Arith, Real};
 
 /// Which time law a move follows.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+#[cfg_attr(feature = "serde", serde(rename_all = "snake_case"))]
 pub enum Law {
     /// Trapezoidal velocity: speed and acceleration bounds.
     Trapezoid,
@@ -53,6 +56,8 @@ pub enum Law {
 /// Bounds on the path speed (unit/s), acceleration (unit/s^2) and jerk
 /// (unit/s^3), each positive. [`Law::Trapezoid`] ignores the jerk.
 #[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+#[cfg_attr(feature = "serde", serde(deny_unknown_fields))]
 pub struct Bounds<S> {
     /// Largest speed along the path.
     pub speed: S,

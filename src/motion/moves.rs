@@ -19,6 +19,8 @@ use crate::solution::Margins;
 /// Cartesian quantities in mm, mm/s, mm/s^2, mm/s^3; joint ones in rad,
 /// rad/s, rad/s^2, rad/s^3; times in seconds.
 #[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "serde", derive(serde::Serialize, serde::Deserialize))]
+#[cfg_attr(feature = "serde", serde(rename_all = "snake_case", deny_unknown_fields))]
 pub enum Move<S> {
     /// Straight line to `to` (mm).
     Line {

@@ -10,6 +10,7 @@ use crate::scalar::{Arith, Real};
 
 /// What [`Stream::push`] reports about an accepted move.
 #[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Accepted<S> {
     /// The move's number in this stream (counts pushes from 0, wrapping).
     pub id: u32,

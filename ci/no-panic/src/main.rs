@@ -11,7 +11,7 @@ fn exercise<S: Real>() -> usize {
     let mm = |v: f64| S::Wide::from_f64(v).unwrap_or(S::Wide::ZERO);
     let rad = |v: f64| S::from_f64(v).unwrap_or(S::ZERO);
     let geometry = Geometry { base_radius: mm(160.0), platform_radius: mm(40.0), upper_arm: mm(280.0), lower_arm: mm(720.0) };
-    let limits = Limits::uniform(rad(-0.6), rad(1.4), rad(0.7), rad(0.1), rad(0.1));
+    let limits = Limits { joint_min: [rad(-0.6); 3], joint_max: [rad(1.4); 3], passive_cone: rad(0.7), min_serial_margin: rad(0.1), min_parallel_margin: rad(0.1) };
     let Ok(robot) = Robot::new(black_box(geometry), black_box(limits)) else { return 0 };
     let target = black_box([mm(10.0), mm(-20.0), mm(-700.0)]);
     let joints = black_box([rad(0.4), rad(0.5), rad(0.45)]);
