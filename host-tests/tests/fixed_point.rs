@@ -802,7 +802,13 @@ fn near_plane_intersection_meets_5_um_on_a_4000_mm_arm() {
     for (g0, theta) in cases {
         let lo = theta.iter().copied().fold(f64::INFINITY, f64::min) - 0.1;
         let hi = theta.iter().copied().fold(f64::NEG_INFINITY, f64::max) + 0.1;
-        let l = Limits::uniform(lo, hi, 1.5, 0.0, 0.0);
+        let l = Limits {
+            joint_min: [lo; 3],
+            joint_max: [hi; 3],
+            passive_cone: 1.5,
+            min_serial_margin: 0.0,
+            min_parallel_margin: 0.0,
+        };
         let (robot, g) = fixed_robot(&g0, &l).expect("inside the envelope");
         assert_eq!(g, g0, "the dimensions are exact in Q18.14");
         let joints = theta.map(fixed);
