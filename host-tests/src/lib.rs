@@ -7,6 +7,7 @@ pub mod cli;
 pub mod config;
 pub mod contract;
 pub mod crosscheck;
+pub mod drive;
 pub mod gates;
 pub mod plan;
 pub mod plots;
