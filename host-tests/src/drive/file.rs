@@ -12,24 +12,24 @@
 //! peak_torque_nmm = 950.0         # short-time maximum, N*mm
 //! rated_speed_rpm = 3000.0        # speed at which rated torque is specified
 //! max_speed_rpm = 5000.0          # never exceeded
-//! rotor_inertia_kg_mm2 = 12.0     # about the motor shaft
+//! rotor_inertia_kg_mm2 = 24.0     # about the motor shaft
 //! torque_constant_nmm_a = 75.0    # shaft torque per ampere, N*mm/A
 //! winding_resistance_ohm = 0.60   # of the circuit the torque constant refers to
 //! winding_inductance_mh = 1.1
 //! back_emf_v_s_rad = 0.075        # volts per rad/s of shaft speed
 //! supply_voltage_v = 48.0         # what the amplifier can put across the winding
 //! [gearbox]
-//! ratio = 20.0                    # motor turns per upper-arm turn
+//! ratio = 30.0                    # motor turns per upper-arm turn
 //! efficiency = 0.90               # 0 < efficiency <= 1
-//! inertia_at_input_kg_mm2 = 3.0   # the gearbox's own, referred to the motor shaft
-//! rated_output_torque_nmm = 10000.0
-//! peak_output_torque_nmm = 20000.0
+//! inertia_at_input_kg_mm2 = 2.5   # the gearbox's own, referred to the motor shaft
+//! rated_output_torque_nmm = 15000.0
+//! peak_output_torque_nmm = 30000.0
 //! max_input_speed_rpm = 6000.0
 //! [servo]                         # optional: the position loop, for a simulation
 //! rate_hz = 4000.0                # servo (setpoint) rate, one value for all arms
-//! proportional_v_per_rad = 550.0  # winding volts per rad of joint-angle error
-//! integral_v_per_rad_s = 8600.0   # per rad*s of integrated error
-//! derivative_v_s_per_rad = 3.4    # per rad/s of error rate
+//! proportional_v_per_rad = 1300.0 # winding volts per rad of joint-angle error
+//! integral_v_per_rad_s = 20000.0  # per rad*s of integrated error
+//! derivative_v_s_per_rad = 9.5    # per rad/s of error rate
 //! derivative_filter_s = 0.0004    # first-order filter on the derivative term
 //! output_limit_v = 48.0           # |output| <= this, at most the supply voltage
 //! ```
@@ -528,7 +528,7 @@ mod tests {
             (
                 "peak_output_torque_nmm",
                 "[20000.0, 9000.0, 20000.0]",
-                "[gearbox] peak_output_torque_nmm[1] = 9000 must be at least rated_output_torque_nmm (10000)",
+                "[gearbox] peak_output_torque_nmm[1] = 9000 must be at least rated_output_torque_nmm (15000)",
             ),
             ("output_limit_v", "60.0", "[servo] output_limit_v = 60 must be at most [motor] supply_voltage_v (48)"),
             ("rate_hz", "-1.0", "[servo] rate_hz = -1 must be a finite number above zero"),
