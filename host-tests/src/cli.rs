@@ -154,7 +154,7 @@ pub enum Command {
 /// Options of `size`.
 #[derive(Debug, Args)]
 pub struct SizeArgs {
-    /// Robot file with a [dynamics] table; the built-in demo robot when omitted.
+    /// Robot file with a `[dynamics]` table; the built-in demo robot when omitted.
     #[arg(long, value_name = "FILE")]
     pub robot: Option<PathBuf>,
     /// Moves file: the duty cycle; the built-in demo moves when omitted.
@@ -163,7 +163,7 @@ pub struct SizeArgs {
     /// Drive file (TOML, see examples/demo_drive.toml); the built-in demo drive when omitted.
     #[arg(long, value_name = "FILE")]
     pub drive: Option<PathBuf>,
-    /// Servo rate (Hz); default: the drive file's [servo] rate_hz, else 4000.
+    /// Servo rate (Hz); default: the drive file's `[servo] rate_hz`, else 4000.
     #[arg(long, value_name = "N")]
     pub rate_hz: Option<f64>,
     /// Centre of the benchmark pick cycle (mm); default: the moves file's start_mm.

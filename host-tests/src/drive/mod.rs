@@ -1,6 +1,6 @@
 //! The drive file: the motor, gearbox and servo-loop data of a machine's
 //! three joint drives, read by `deltakin size` (and any command that
-//! models the drives). See [`file`] for the format.
+//! models the drives). See [`mod@file`] for the format.
 
 pub mod file;
 

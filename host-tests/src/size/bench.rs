@@ -26,7 +26,7 @@
 use deltakin::{Dynamics, Robot};
 
 use super::profile::Profile;
-use super::verdict::{ArmFigures, Use};
+use super::verdict::{ArmFigures, Use, highest_of};
 use crate::cli::ScalarKind;
 use crate::config::RobotFile;
 use crate::drive::Drive;
@@ -134,15 +134,7 @@ impl Bench {
 
     /// The highest use at stretch `k` and its arm.
     fn highest(&self, dynamics: &Dynamics<f64>, drive: &Drive, k: f64) -> Result<(usize, Use), String> {
-        let figures = self.figures(dynamics, drive, k)?;
-        let mut best = (0, figures[0].highest_use(&drive.arms[0]));
-        for arm in 1..3 {
-            let u = figures[arm].highest_use(&drive.arms[arm]);
-            if u.ratio() > best.1.ratio() {
-                best = (arm, u);
-            }
-        }
-        Ok(best)
+        Ok(highest_of(&self.figures(dynamics, drive, k)?, drive))
     }
 
     /// Cycles per minute at stretch `k`.

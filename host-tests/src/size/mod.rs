@@ -14,7 +14,7 @@
 //! * [`verdict`]: per arm the peak and RMS motor torque, peak speed and
 //!   voltage, gearbox torques and speed, the load-to-rotor inertia ratio,
 //!   each against its limit, and a verdict with the reason;
-//! * [`bench`]: the 25/305/25 mm benchmark pick cycle and the highest pick
+//! * [`mod@bench`]: the 25/305/25 mm benchmark pick cycle and the highest pick
 //!   rate the drive sustains, by a time stretch and bisection;
 //! * [`plot`]: the torque-speed picture against the motor's envelope;
 //! * [`output`]: the text report.
@@ -138,13 +138,7 @@ pub fn size(req: &Request<'_>) -> Result<Sizing, String> {
 
     let bench = Bench::plan(req.robot, &robot, &dynamics, req.moves, req.rate_hz, req.bench_centre_mm, req.dwell_s)?;
     let at_bounds = bench.figures(&dynamics, req.drive, 1.0)?;
-    let mut use_at_bounds = (0, at_bounds[0].highest_use(&req.drive.arms[0]));
-    for arm in 1..3 {
-        let u = at_bounds[arm].highest_use(&req.drive.arms[arm]);
-        if u.ratio() > use_at_bounds.1.ratio() {
-            use_at_bounds = (arm, u);
-        }
-    }
+    let use_at_bounds = verdict::highest_of(&at_bounds, req.drive);
     let highest = bench.highest_rate(&dynamics, req.drive)?;
     Ok(Sizing {
         robot_name: req.robot.name.clone(),

@@ -38,7 +38,7 @@ pub fn describe(u: &Use) -> String {
 /// The three arms' values of `limit` in the display unit: one number when
 /// they agree, else `a/b/c`.
 fn limit_text(arms: &[ArmDrive; 3], limit: impl Fn(&ArmDrive) -> f64) -> String {
-    let v = arms.each_ref().map(|a| limit(a));
+    let v = arms.each_ref().map(limit);
     if v[0] == v[1] && v[1] == v[2] { format!("{:.0}", v[0]) } else { format!("{:.0}/{:.0}/{:.0}", v[0], v[1], v[2]) }
 }
 
@@ -74,7 +74,7 @@ pub fn text(s: &Sizing) -> String {
          accelerations by central differences of the streamed rates)\n",
         s.cycle_s, s.rate_hz
     );
-    let _ = writeln!(out, "{:<36}{:>12}{:>12}{:>12}   {}", "", "arm 0", "arm 1", "arm 2", "limit");
+    let _ = writeln!(out, "{:<36}{:>12}{:>12}{:>12}   limit", "", "arm 0", "arm 1", "arm 2");
     let f = &s.figures;
     let mut row = |label: &str, value: &dyn Fn(usize) -> String, limit: String| {
         let _ = writeln!(out, "{label:<36}{:>12}{:>12}{:>12}   {limit}", value(0), value(1), value(2));
@@ -150,16 +150,8 @@ pub fn text(s: &Sizing) -> String {
         }
     }
     let overall = if s.passes() { "PASS" } else { "FAIL" };
-    let worst = s.figures.iter().zip(arms).enumerate().map(|(arm, (f, d))| (arm, f.highest_use(d))).fold(
-        None,
-        |best: Option<(usize, Use)>, (arm, u)| match best {
-            Some((_, b)) if b.ratio() >= u.ratio() => best,
-            _ => Some((arm, u)),
-        },
-    );
-    if let Some((arm, u)) = worst {
-        let _ = writeln!(out, "overall: {overall} (highest use: arm {arm} {})\n", describe(&u));
-    }
+    let (arm, u) = super::verdict::highest_of(&s.figures, &s.drive);
+    let _ = writeln!(out, "overall: {overall} (highest use: arm {arm} {})\n", describe(&u));
 
     let b = &s.bench;
     let c = b.bench.centre_mm;

@@ -21,7 +21,7 @@
 
 use super::profile::{JointLoad, Profile};
 use super::shaft::{self, ShaftState};
-use crate::drive::ArmDrive;
+use crate::drive::{ArmDrive, Drive};
 
 /// What a check compares.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -205,10 +205,22 @@ impl ArmFigures {
     }
 }
 
+/// The highest use over three arms and the arm it is on.
+#[must_use]
+pub fn highest_of(figures: &[ArmFigures; 3], drive: &Drive) -> (usize, Use) {
+    let mut best = (0, figures[0].highest_use(&drive.arms[0]));
+    for (arm, (f, d)) in figures.iter().zip(&drive.arms).enumerate().skip(1) {
+        let u = f.highest_use(d);
+        if u.ratio() > best.1.ratio() {
+            best = (arm, u);
+        }
+    }
+    best
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::drive::Drive;
 
     #[test]
     fn figures_verdicts_and_reasons_of_a_hand_made_cycle() {
