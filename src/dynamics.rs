@@ -9,8 +9,13 @@
 //! memory):
 //!
 //! * each upper arm is a rigid body turning about its actuator axis, with
-//!   inertia `I_u` about that axis (rotor and gearbox reflected inertia
-//!   included) and its centre of mass at `r_c` from the axis along the arm;
+//!   inertia `I_u` about that axis and its centre of mass at `r_c` from the
+//!   axis along the arm. `I_u` is whatever turns with the arm that the
+//!   caller wants in the torque: the arm alone gives the torque at the
+//!   gearbox output; adding the drive's reflected inertia
+//!   `n^2 (J_rotor + J_gearbox)` gives feed-forward that also accelerates
+//!   the motor (deltakin's robot file holds the arm alone, its drive file
+//!   the motor and gearbox);
 //! * each lower-arm pair (both rods, mass `m_l`) is split into a point mass
 //!   `share * m_l` at the elbow and `(1 - share) * m_l` at the platform;
 //!   the rods' own rotational inertia is neglected;
@@ -130,8 +135,9 @@ pub struct DynamicsParams {
     pub upper_arm_mass: [f64; 3],
     /// Actuator axis to each upper arm's centre of mass, mm.
     pub upper_arm_com: [f64; 3],
-    /// Each upper arm's inertia about its actuator axis, rotor and gearbox
-    /// reflected inertia included, kg*mm^2.
+    /// Each upper arm's inertia about its actuator axis, kg*mm^2 (the arm
+    /// alone, or with the drive's reflected inertia added: see the module
+    /// docs).
     pub upper_arm_inertia: [f64; 3],
     /// Mass of each lower-arm pair (both rods), kg.
     pub lower_arm_mass: [f64; 3],

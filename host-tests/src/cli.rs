@@ -2,7 +2,8 @@
 //! dispatch to the core and the report. No kinematics here.
 //!
 //! Exit status: 0 success; 1 `report` found an enforced gate broken (an
-//! accuracy bound, a target budget, ...); 2 a usage or configuration
+//! accuracy bound, a target budget, ...), `calibrate` a poor fit, `size` a
+//! drive failing its verdict; 2 a usage or configuration
 //! problem (bad arguments, unreadable or invalid robot, moves, gate or
 //! targets file, missing or wrong CSV header, a move `plan` must refuse,
 //! I/O failure). A closed stdout pipe (`deltakin plan | head`) is not a
@@ -144,7 +145,52 @@ pub enum Command {
     #[command(after_help = "Example:\n  deltakin calibrate --robot examples/demo_robot.toml \
                             --measurements examples/demo_measurements.csv --out calibrated.toml")]
     Calibrate(CalibrateArgs),
+    /// Size the drives: can the drive file's motor and gearbox run the
+    /// moves file's cycle, and how fast can they run the benchmark pick?
+    ///
+    /// Per arm over the moves file (one duty cycle, repeated): peak and
+    /// RMS torque at the motor shaft, peak speed and winding voltage,
+    /// gearbox torques and speed, the load-to-rotor inertia ratio, each
+    /// against the drive's limit, and a verdict with the reason. Then the
+    /// highest rate of the 25/305/25 mm benchmark pick cycle the drive
+    /// sustains (time stretch and bisection). Exit status: 0 every arm
+    /// passes, 1 an arm fails its verdict, 2 usage or input problem.
+    #[command(after_help = "Example:\n  deltakin size --robot examples/demo_robot.toml \
+                            --moves examples/demo_moves.toml --drive examples/demo_drive.toml --plot torque_speed.svg")]
+    Size(SizeArgs),
 }
+
+/// Options of `size`.
+#[derive(Debug, Args)]
+pub struct SizeArgs {
+    /// Robot file with a `[dynamics]` table; the built-in demo robot when omitted.
+    #[arg(long, value_name = "FILE")]
+    pub robot: Option<PathBuf>,
+    /// Moves file: the duty cycle; the built-in demo moves when omitted.
+    #[arg(long, value_name = "FILE")]
+    pub moves: Option<PathBuf>,
+    /// Drive file (TOML, see examples/demo_drive.toml); the built-in demo drive when omitted.
+    #[arg(long, value_name = "FILE")]
+    pub drive: Option<PathBuf>,
+    /// Servo rate (Hz); default: the drive file's `[servo] rate_hz`, else 4000.
+    #[arg(long, value_name = "N")]
+    pub rate_hz: Option<f64>,
+    /// Centre of the benchmark pick cycle (mm); default: the moves file's start_mm.
+    #[arg(long, value_name = "X,Y,Z", value_delimiter = ',', num_args = 3, allow_negative_numbers = true)]
+    pub bench_centre_mm: Option<Vec<f64>>,
+    /// Hold at each end of the benchmark cycle (s).
+    #[arg(long, value_name = "S", default_value_t = crate::size::DEFAULT_DWELL_S)]
+    pub dwell_s: f64,
+    /// Load-to-rotor inertia ratio above which the verdict adds advice.
+    #[arg(long, value_name = "R", default_value_t = crate::size::DEFAULT_MAX_INERTIA_RATIO)]
+    pub max_inertia_ratio: f64,
+    /// Write the torque-speed picture of the cycle as SVG to FILE.
+    #[arg(long, value_name = "FILE")]
+    pub plot: Option<PathBuf>,
+}
+
+/// Exit status when `size` finds an arm's drive failing its verdict.
+pub const EXIT_DRIVE_FAILS: u8 = 1;
 
 /// Options of `calibrate`.
 #[derive(Debug, Args)]
@@ -760,6 +806,42 @@ fn run_calibrate(args: &CalibrateArgs) -> Result<ExitCode, Failure> {
     Ok(if fit.accepted(args.noise_mm) { ExitCode::SUCCESS } else { ExitCode::from(EXIT_POOR_FIT) })
 }
 
+fn run_size(args: &SizeArgs) -> Result<ExitCode, Failure> {
+    use crate::size::{self, Request};
+    let robot = load_robot(args.robot.as_deref())?;
+    let (moves_text, moves_name) = match &args.moves {
+        Some(p) => (
+            std::fs::read_to_string(p).map_err(|e| Failure(format!("cannot read moves file {}: {e}", p.display())))?,
+            p.display().to_string(),
+        ),
+        None => (plan::DEMO_MOVES_TOML.to_owned(), "demo moves".to_owned()),
+    };
+    let moves = plan::MovesFile::parse(&moves_text).map_err(|e| Failure(format!("{moves_name}: {e}")))?;
+    let drive = crate::drive::Drive::load(args.drive.as_deref()).map_err(|e| Failure(e.to_string()))?;
+    let centre = match args.bench_centre_mm.as_deref() {
+        None => moves.start_mm,
+        Some(&[x, y, z]) => [x, y, z],
+        Some(_) => return Err(Failure("--bench-centre-mm takes three numbers X,Y,Z".into())),
+    };
+    let request = Request {
+        robot: &robot,
+        moves: &moves,
+        drive: &drive,
+        rate_hz: args.rate_hz.or(drive.servo_rate_hz).unwrap_or(DEFAULT_RATE_HZ),
+        bench_centre_mm: centre,
+        dwell_s: args.dwell_s,
+        max_inertia_ratio: args.max_inertia_ratio,
+    };
+    let sizing = size::size(&request).map_err(Failure)?;
+    print!("{}", size::output::text(&sizing));
+    if let Some(p) = &args.plot {
+        let title = format!("Torque and speed at the motor over the cycle: {}", drive.name);
+        size::plot::torque_speed(p, &title, &sizing.figures, &drive)
+            .map_err(|e| Failure(format!("{}: {e}", p.display())))?;
+    }
+    Ok(if sizing.passes() { ExitCode::SUCCESS } else { ExitCode::from(EXIT_DRIVE_FAILS) })
+}
+
 /// Runs the parsed command line.
 #[must_use]
 pub fn run(cli: &Cli) -> ExitCode {
@@ -769,6 +851,7 @@ pub fn run(cli: &Cli) -> ExitCode {
         Command::Report(args) => run_report(args),
         Command::Plan(args) => run_plan(args),
         Command::Calibrate(args) => run_calibrate(args),
+        Command::Size(args) => run_size(args),
     };
     result.unwrap_or_else(|Failure(message)| {
         eprintln!("deltakin: {message}");

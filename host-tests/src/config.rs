@@ -135,8 +135,9 @@ pub struct DynamicsFile {
     pub upper_arm_mass_kg: PerArm,
     /// Actuator axis to the upper arm's centre of mass, mm.
     pub upper_arm_com_mm: PerArm,
-    /// Upper arm inertia about the actuator axis (rotor and gearbox
-    /// reflected inertia included), kg*mm^2.
+    /// Upper arm inertia about the actuator axis, the arm alone (hub and
+    /// elbow joints included; the motor's rotor and the gearbox belong to
+    /// the drive file, see [`crate::drive`]), kg*mm^2.
     pub upper_arm_inertia_kg_mm2: PerArm,
     /// Both rods of one lower arm, kg.
     pub lower_arm_mass_kg: PerArm,
