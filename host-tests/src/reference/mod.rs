@@ -63,6 +63,8 @@
 //! Cost: thousands of trigonometric evaluations per call. This is a test
 //! oracle, not a solver.
 
+pub mod dynamics;
+
 use deltakin::{ArmCorrection, Geometry};
 
 /// Samples of the whole circle in the inverse-kinematics root search
