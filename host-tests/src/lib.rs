@@ -17,4 +17,5 @@ pub mod report;
 pub mod stats;
 pub mod sweep;
 pub mod timing;
+pub mod torque_error;
 pub mod volume;

@@ -216,11 +216,8 @@ impl FullDynamics {
         let t = theta + arm.joint_offset;
         let (s, c) = t.sin_cos();
         let a = arm.upper_arm;
-        let local = [
-            [arm.base_radius + a * c, 0.0, arm.axis_height - a * s],
-            [-a * s, 0.0, -a * c],
-            [-a * c, 0.0, a * s],
-        ];
+        let local =
+            [[arm.base_radius + a * c, 0.0, arm.axis_height - a * s], [-a * s, 0.0, -a * c], [-a * c, 0.0, a * s]];
         local.map(|v| rotate_z(arm.azimuth, v))
     }
 
@@ -281,9 +278,11 @@ impl FullDynamics {
     fn mass_matrix(&self, x: &Vec6) -> Mat6 {
         let unit = |j: usize| Vec6::from_fn(|r, _| if r == j { 1.0 } else { 0.0 });
         let diag: [f64; 6] = std::array::from_fn(|j| self.kinetic(x, &unit(j)));
-        Mat6::from_fn(|j, k| {
-            if j == k { 2.0 * diag[j] } else { self.kinetic(x, &(unit(j) + unit(k))) - diag[j] - diag[k] }
-        })
+        Mat6::from_fn(
+            |j, k| {
+                if j == k { 2.0 * diag[j] } else { self.kinetic(x, &(unit(j) + unit(k))) - diag[j] - diag[k] }
+            },
+        )
     }
 
     /// Central-difference step for coordinate `j`.
