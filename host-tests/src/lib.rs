@@ -14,6 +14,7 @@ pub mod plots;
 pub mod progress;
 pub mod reference;
 pub mod report;
+pub mod simulate;
 pub mod stats;
 pub mod sweep;
 pub mod timing;
