@@ -751,9 +751,13 @@ fn run_report(args: &ReportArgs) -> Result<ExitCode, Failure> {
         }
         None => Vec::new(),
     };
-    let gates = gates::evaluate(&gate_limits, &findings, host_timing.as_ref(), targets.as_ref());
+    let torque_check = crate::torque_error::demo(&robot).map_err(|e| format!("demo program: {e}"));
+    let mut gates = gates::evaluate(&gate_limits, &findings, host_timing.as_ref(), targets.as_ref());
+    gates.extend(gates::torque_model(&torque_check));
+    let torque_model = torque_check.ok().flatten();
     let passed = Report::gates_pass(&gates);
-    let full = Report { accuracy: findings, volume, host_timing, targets, gate_limits, gates, passed, plots };
+    let full =
+        Report { accuracy: findings, volume, host_timing, targets, gate_limits, gates, passed, plots, torque_model };
     let text = report::tables(&full);
     // A closed pipe (`deltakin report | head`) is quiet; the JSON and the
     // gate verdict's exit status still follow.

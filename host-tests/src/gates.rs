@@ -554,6 +554,38 @@ pub fn evaluate(
     out
 }
 
+/// The simplified-torque gates: the core's torques against the
+/// full-dynamics reference on the demo program, worst and RMS in percent
+/// of the peak ([`crate::bounds::SIMPLIFIED_TORQUE_WORST_PCT`],
+/// [`crate::bounds::SIMPLIFIED_TORQUE_RMS_PCT`]). Not run (and not
+/// required) when the robot file has no `[dynamics]` table, or when the
+/// demo program does not run on this robot (the reason in the note).
+#[must_use]
+pub fn torque_model(figures: &Result<Option<crate::torque_error::TorqueError>, String>) -> Vec<Gate> {
+    use crate::bounds::{SIMPLIFIED_TORQUE_RMS_PCT, SIMPLIFIED_TORQUE_WORST_PCT};
+    let section = "dynamics";
+    let worst = "simplified torques vs full reference, worst".to_owned();
+    let rms = "simplified torques vs full reference, RMS".to_owned();
+    match figures {
+        Ok(Some(f)) => {
+            let mut a = Gate::at_most(section, worst, f.worst_pct, SIMPLIFIED_TORQUE_WORST_PCT, "% of peak");
+            "bounds::SIMPLIFIED_TORQUE_WORST_PCT".clone_into(&mut a.note);
+            let mut b = Gate::at_most(section, rms, f.rms_pct, SIMPLIFIED_TORQUE_RMS_PCT, "% of peak");
+            "bounds::SIMPLIFIED_TORQUE_RMS_PCT".clone_into(&mut b.note);
+            vec![a, b]
+        }
+        Ok(None) => vec![Gate::not_run(
+            section,
+            worst,
+            SIMPLIFIED_TORQUE_WORST_PCT,
+            "% of peak",
+            false,
+            "the robot file has no [dynamics] table",
+        )],
+        Err(e) => vec![Gate::not_run(section, worst, SIMPLIFIED_TORQUE_WORST_PCT, "% of peak", false, e)],
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -30,6 +30,9 @@ pub struct Report {
     pub targets: Option<TargetsFile>,
     /// The gate limits in force (defaults, robot file, gate file).
     pub gate_limits: GateConfig,
+    /// The core's simplified torques against the full-dynamics reference
+    /// on the demo program; `None` without a `[dynamics]` table.
+    pub torque_model: Option<crate::torque_error::TorqueError>,
     /// Every gate's verdict.
     pub gates: Vec<Gate>,
     /// Whether every enforced gate passed (the exit status is 0 exactly
@@ -154,6 +157,22 @@ pub fn tables(r: &Report) -> String {
         None => out.push_str("\nHost timing: skipped\n"),
     }
     target_tables(&mut out, r.targets.as_ref());
+    if let Some(t) = &r.torque_model {
+        out.push_str(
+            "\nTorque model (demo program; simplified core model vs full-dynamics reference, friction left out)\n",
+        );
+        let mut tab = Table::new(&["samples", "peak N*mm", "worst N*mm", "worst %", "at s", "RMS N*mm", "RMS %"], 0);
+        tab.row(vec![
+            t.samples.to_string(),
+            num(t.peak_nmm),
+            num(t.worst_nmm),
+            num(t.worst_pct),
+            num(t.worst_at_s),
+            num(t.rms_nmm),
+            num(t.rms_pct),
+        ]);
+        tab.render(&mut out);
+    }
     gate_table(&mut out, &r.gates);
     if !r.plots.is_empty() {
         out.push_str("\nPlots\n");

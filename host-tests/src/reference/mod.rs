@@ -65,6 +65,8 @@
 //! few hundred trigonometric evaluations in the searches, and thousands in
 //! forward kinematics. This is a test oracle, not a solver.
 
+pub mod dynamics;
+
 use deltakin::{ArmCorrection, Geometry};
 
 /// Samples of the whole circle in the inverse-kinematics root search
