@@ -15,7 +15,11 @@ use crate::types::{
 ///
 /// # Safety
 /// `fault` is null or points to a writable `DeltakinFault`.
-pub(crate) unsafe fn report(fault: *mut DeltakinFault, status: DeltakinStatus, details: DeltakinFault) -> DeltakinStatus {
+pub(crate) unsafe fn report(
+    fault: *mut DeltakinFault,
+    status: DeltakinStatus,
+    details: DeltakinFault,
+) -> DeltakinStatus {
     // SAFETY: the caller guarantees a null or writable pointer.
     if let Some(f) = unsafe { fault.as_mut() } {
         *f = details;
@@ -27,7 +31,10 @@ pub(crate) unsafe fn report(fault: *mut DeltakinFault, status: DeltakinStatus, d
 ///
 /// # Safety
 /// As [`report`].
-pub(crate) unsafe fn finish(fault: *mut DeltakinFault, r: Result<(), (DeltakinStatus, DeltakinFault)>) -> DeltakinStatus {
+pub(crate) unsafe fn finish(
+    fault: *mut DeltakinFault,
+    r: Result<(), (DeltakinStatus, DeltakinFault)>,
+) -> DeltakinStatus {
     match r {
         // SAFETY: passed through from the caller.
         Ok(()) => unsafe { report(fault, DeltakinStatus::Ok, DeltakinFault::NONE) },

@@ -10,7 +10,9 @@ use crate::kinematics::triple;
 use crate::robot::{finish, plain};
 use crate::status::{DeltakinFault, DeltakinStatus, from_motion};
 use crate::storage::{DeltakinRobotF32, DeltakinRobotQ, DeltakinStreamF32, DeltakinStreamQ};
-use crate::types::{DeltakinAcceptedF32, DeltakinMoveF32, DeltakinRateLimitsF32, DeltakinSetpointF32, DeltakinSetpointQ};
+use crate::types::{
+    DeltakinAcceptedF32, DeltakinMoveF32, DeltakinRateLimitsF32, DeltakinSetpointF32, DeltakinSetpointQ,
+};
 
 type Failure = (DeltakinStatus, DeltakinFault);
 
