@@ -73,7 +73,10 @@ static int32_t max_lsb3(const int32_t *a, const int32_t *b) {
 static DeltakinRobotF32 robot;
 static DeltakinRobotQ robot_q;
 static DeltakinDynamicsF32 dynamics;
-static DeltakinStreamF32 stream, stream_twin;
+static DeltakinStreamF32 stream;
+#ifdef DELTAKIN_PROBE
+static DeltakinStreamF32 stream_twin; /* stepped by the Rust probe */
+#endif
 static DeltakinStreamQ stream_q;
 
 static void interface_checks(void) {

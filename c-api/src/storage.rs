@@ -41,49 +41,59 @@ pub const DELTAKIN_STREAM_Q_SIZE: usize = 3056;
 /// Alignment of every storage struct in bytes.
 pub const DELTAKIN_STORAGE_ALIGN: usize = 8;
 
-/// Words of a body: the storage size minus the tag words.
-const fn body_words(size: usize) -> usize {
-    size / 8 - 1
-}
-
 /// Storage for a robot in f32 (`deltakin_robot_init_f32`).
 #[repr(C)]
 pub struct DeltakinRobotF32 {
-    pub(crate) tag: u32,
-    pub(crate) reserved: u32,
-    pub(crate) body: [u64; body_words(DELTAKIN_ROBOT_F32_SIZE)],
+    /// Internal: set by the `_init` function once the body is valid.
+    pub tag: u32,
+    /// Internal: padding.
+    pub reserved: u32,
+    /// Internal: the core's value.
+    pub body: [u64; 29],
 }
 
 /// Storage for a robot in fixed point (`deltakin_robot_init_q`).
 #[repr(C)]
 pub struct DeltakinRobotQ {
-    pub(crate) tag: u32,
-    pub(crate) reserved: u32,
-    pub(crate) body: [u64; body_words(DELTAKIN_ROBOT_Q_SIZE)],
+    /// Internal: set by the `_init` function once the body is valid.
+    pub tag: u32,
+    /// Internal: padding.
+    pub reserved: u32,
+    /// Internal: the core's value.
+    pub body: [u64; 31],
 }
 
 /// Storage for a dynamics model in f32 (`deltakin_dynamics_init_f32`).
 #[repr(C)]
 pub struct DeltakinDynamicsF32 {
-    pub(crate) tag: u32,
-    pub(crate) reserved: u32,
-    pub(crate) body: [u64; body_words(DELTAKIN_DYNAMICS_F32_SIZE)],
+    /// Internal: set by the `_init` function once the body is valid.
+    pub tag: u32,
+    /// Internal: padding.
+    pub reserved: u32,
+    /// Internal: the core's value.
+    pub body: [u64; 9],
 }
 
 /// Storage for a setpoint stream in f32 (`deltakin_stream_init_f32`).
 #[repr(C)]
 pub struct DeltakinStreamF32 {
-    pub(crate) tag: u32,
-    pub(crate) reserved: u32,
-    pub(crate) body: [u64; body_words(DELTAKIN_STREAM_F32_SIZE)],
+    /// Internal: set by the `_init` function once the body is valid.
+    pub tag: u32,
+    /// Internal: padding.
+    pub reserved: u32,
+    /// Internal: the core's value.
+    pub body: [u64; 363],
 }
 
 /// Storage for a fixed-point setpoint stream (`deltakin_stream_init_q`).
 #[repr(C)]
 pub struct DeltakinStreamQ {
-    pub(crate) tag: u32,
-    pub(crate) reserved: u32,
-    pub(crate) body: [u64; body_words(DELTAKIN_STREAM_Q_SIZE)],
+    /// Internal: set by the `_init` function once the body is valid.
+    pub tag: u32,
+    /// Internal: padding.
+    pub reserved: u32,
+    /// Internal: the core's value.
+    pub body: [u64; 381],
 }
 
 /// Ties a storage struct to the core type it holds and its tag.
@@ -116,7 +126,7 @@ impl Slot for DeltakinStreamQ {
     const TAG: u32 = 0x444b_5351;
 }
 
-/// Compile-time check that storage `S` holds `T` at offset 8: size, the
+/// Compile-time check that storage `S` has the exported size and holds `T` at offset 8: size, the
 /// body's room, and alignment.
 macro_rules! fits {
     ($storage:ty, $value:ty, $size:expr) => {
