@@ -224,7 +224,7 @@ fn main() {
     let mut count32 = 0usize;
     let mut end32 = home;
     while let Ok(Some(sp)) = s32.next_setpoint() {
-        if count32 % SAMPLE_EVERY == 0 {
+        if count32.is_multiple_of(SAMPLE_EVERY) {
             samples32.push(sp.setpoint.joints);
         }
         count32 += 1;
@@ -234,7 +234,7 @@ fn main() {
     let mut countq = 0usize;
     let mut endq = tq[0];
     while let Ok(Some(sp)) = sq.next_setpoint() {
-        if countq % SAMPLE_EVERY == 0 {
+        if countq.is_multiple_of(SAMPLE_EVERY) {
             samplesq.push(sp.setpoint.joints.map(Fixed::to_raw));
         }
         countq += 1;

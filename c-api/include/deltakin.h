@@ -41,10 +41,10 @@
 #define DELTAKIN_DYNAMICS_F32_SIZE 80
 
 // Size of [`DeltakinStreamF32`] in bytes.
-#define DELTAKIN_STREAM_F32_SIZE 2912
+#define DELTAKIN_STREAM_F32_SIZE 2920
 
 // Size of [`DeltakinStreamQ`] in bytes.
-#define DELTAKIN_STREAM_Q_SIZE 3056
+#define DELTAKIN_STREAM_Q_SIZE 3064
 
 // Alignment of every storage struct in bytes.
 #define DELTAKIN_STORAGE_ALIGN 8
@@ -251,7 +251,7 @@ typedef struct {
   // Internal: padding.
   uint32_t reserved;
   // Internal: the core's value.
-  uint64_t body[363];
+  uint64_t body[364];
 } DeltakinStreamF32;
 
 // The four nominal dimensions (mm), see the conventions in the README.
@@ -355,7 +355,7 @@ typedef struct {
   // Internal: padding.
   uint32_t reserved;
   // Internal: the core's value.
-  uint64_t body[381];
+  uint64_t body[382];
 } DeltakinStreamQ;
 
 // One move, planned in `float`. Fields a kind does not use are ignored.

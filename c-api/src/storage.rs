@@ -35,9 +35,9 @@ pub const DELTAKIN_ROBOT_Q_SIZE: usize = 256;
 /// Size of [`DeltakinDynamicsF32`] in bytes.
 pub const DELTAKIN_DYNAMICS_F32_SIZE: usize = 80;
 /// Size of [`DeltakinStreamF32`] in bytes.
-pub const DELTAKIN_STREAM_F32_SIZE: usize = 2912;
+pub const DELTAKIN_STREAM_F32_SIZE: usize = 2920;
 /// Size of [`DeltakinStreamQ`] in bytes.
-pub const DELTAKIN_STREAM_Q_SIZE: usize = 3056;
+pub const DELTAKIN_STREAM_Q_SIZE: usize = 3064;
 /// Alignment of every storage struct in bytes.
 pub const DELTAKIN_STORAGE_ALIGN: usize = 8;
 
@@ -82,7 +82,7 @@ pub struct DeltakinStreamF32 {
     /// Internal: padding.
     pub reserved: u32,
     /// Internal: the core's value.
-    pub body: [u64; 363],
+    pub body: [u64; 364],
 }
 
 /// Storage for a fixed-point setpoint stream (`deltakin_stream_init_q`).
@@ -93,7 +93,7 @@ pub struct DeltakinStreamQ {
     /// Internal: padding.
     pub reserved: u32,
     /// Internal: the core's value.
-    pub body: [u64; 381],
+    pub body: [u64; 382],
 }
 
 /// Ties a storage struct to the core type it holds and its tag.
