@@ -354,8 +354,11 @@ impl<S: Rounding> Contract<S> {
                 return err(Broken::Inconsistent { difference: diff, mean_rate: mean, allowed: gap_allowed });
             }
             let second = (next.joints[arm] - 2.0 * l.joints[arm] + b.joints[arm]).abs() / (t * t);
+            // Each joint carries up to the type's rounding `e` (as in the
+            // consistency gap above): `e + 2e + e` over `T^2`.
             let noise2 = (next.noise[arm] + 2.0 * l.noise[arm] + b.noise[arm]) / (t * t);
-            let second_allowed = accel_limit + noise2;
+            let rounding2 = 4.0 * S::JOINT_NOISE / (t * t);
+            let second_allowed = accel_limit + noise2.max(rounding2);
             if !within(second, second_allowed) {
                 return err(Broken::Accel { from: "second difference", value: second, allowed: second_allowed });
             }
