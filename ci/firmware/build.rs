@@ -92,7 +92,13 @@ fn robot_f64(n: &RobotNumbers) -> Robot<f64> {
     let [lo, hi, cone, serial, parallel] = n.limits;
     Robot::new(
         Geometry { base_radius, platform_radius, upper_arm, lower_arm },
-        Limits::uniform(lo, hi, cone, serial, parallel),
+        Limits {
+            joint_min: [lo; 3],
+            joint_max: [hi; 3],
+            passive_cone: cone,
+            min_serial_margin: serial,
+            min_parallel_margin: parallel,
+        },
     )
     .unwrap_or_else(|e| panic!("demo robot: {e}"))
 }

@@ -255,7 +255,16 @@ fn demo_robot() -> Robot<S> {
     let [b, p, u, l] = table::GEOMETRY.map(wide);
     let [lo, hi, cone, serial, parallel] = table::LIMITS.map(narrow);
     let geometry = Geometry { base_radius: b, platform_radius: p, upper_arm: u, lower_arm: l };
-    match Robot::new(geometry, Limits::uniform(lo, hi, cone, serial, parallel)) {
+    match Robot::new(
+        geometry,
+        Limits {
+            joint_min: [lo; 3],
+            joint_max: [hi; 3],
+            passive_cone: cone,
+            min_serial_margin: serial,
+            min_parallel_margin: parallel,
+        },
+    ) {
         Ok(r) => r,
         Err(_) => fail("the demo robot is refused"),
     }
